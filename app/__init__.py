@@ -1,0 +1,1 @@
+"""Lagwright's user-facing layer: the command line and the Qt window."""

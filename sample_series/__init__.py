@@ -1,0 +1,1 @@
+"""Invented demo series bundled with Lagwright (see README.md in this folder)."""
