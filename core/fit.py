@@ -194,6 +194,13 @@ def fit_exact(
     """
     started = time.perf_counter()
     prepared = prepare(series, spec)
+    if spec.n_params >= prepared.n_observed - 1:
+        return failed_fit(
+            spec, "exact",
+            f"{spec.description} has {spec.n_params} parameters but only {prepared.n_observed} values remain "
+            "after differencing: drop terms or use a longer series.",
+            elapsed=time.perf_counter() - started,
+        )
     model = _statsmodels_model(np.asarray(prepared.values), spec)
 
     order = [start] + [s for s in START_STRATEGIES if s != start]
@@ -223,6 +230,19 @@ def fit_exact(
                           tuple(log), time.perf_counter() - started)
 
     best = _best(attempts)
+    higher = max(attempts, key=lambda a: a.loglik if math.isfinite(a.loglik) else -math.inf)
+    if higher is not best and higher.loglik > best.loglik + NESTING_TOLERANCE:
+        # An unconverged attempt went higher than every converged one: polish from there.
+        for optimizer in ("nm", "lbfgs"):
+            try:
+                attempt = _optimise(model, higher.params, "polish", optimizer,
+                                    maxiter if optimizer == "lbfgs" else 20 * maxiter)
+            except (np.linalg.LinAlgError, ValueError, OverflowError) as exc:
+                log.append(f"start=polish, optimizer={optimizer}: failed ({exc})")
+                continue
+            attempts.append(attempt)
+            log.append(attempt.line())
+        best = _best(attempts)
     if (
         parent is not None and parent.ok and parent.kind == "exact"
         and spec.nests(parent.spec) and spec != parent.spec
@@ -285,6 +305,12 @@ def _to_fit(series, spec, prepared, model, best: _Attempt, attempts, log, elapse
     param_map = {p.name: p.value for p in estimates}
     all_roots = roots(spec, param_map)
     warn = root_warnings(all_roots)
+    higher = max(attempts, key=lambda a: a.loglik if math.isfinite(a.loglik) else -math.inf)
+    if higher.loglik > best.loglik + NESTING_TOLERANCE:
+        notes.append(
+            f"An unconverged attempt reached a higher log-likelihood ({higher.loglik:.4f}) than the reported "
+            f"converged optimum ({best.loglik:.4f}): the likelihood surface is irregular; treat the estimates with care."
+        )
     if not best.converged:
         notes.insert(0, "The optimiser did not converge: the estimates below are the best found, not a verified optimum.")
     return Fit(

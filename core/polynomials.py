@@ -28,7 +28,8 @@ from .spec import ModelSpec
 #: A root with modulus below this is reported as near the unit circle
 #: (common practice; the exact threshold is a matter of judgement).
 NEAR_UNIT_MODULUS = 1.05
-#: An AR and an MA root closer than this (complex distance) are reported as
+#: An AR and an MA root whose inverses (the zeros 1/z, inside the unit circle
+#: for a stationary, invertible model) are closer than this are reported as
 #: nearly cancelling (common practice; a judgement threshold).
 CANCELLATION_DISTANCE = 0.1
 
@@ -149,7 +150,8 @@ class RootWarnings:
         Roots with modulus below :data:`NEAR_UNIT_MODULUS`. An AR root there
         hints at under-differencing; an MA root there at over-differencing.
     cancelling : tuple of (Root, Root)
-        AR/MA root pairs closer than :data:`CANCELLATION_DISTANCE`: the two
+        AR/MA root pairs whose inverse roots are closer than
+        :data:`CANCELLATION_DISTANCE`: the two
         terms nearly cancel and the model is over-parameterised (Box et al.,
         2015, §7.3.5).
     """
@@ -195,7 +197,7 @@ def root_warnings(all_roots: tuple[Root, ...]) -> RootWarnings:
         for j, m in enumerate(ma_roots):
             if j in used:
                 continue
-            dist = abs(a.value - m.value)
+            dist = abs(1.0 / a.value - 1.0 / m.value)
             if dist < CANCELLATION_DISTANCE and (best is None or dist < best[0]):
                 best = (dist, j)
         if best is not None:

@@ -1,0 +1,142 @@
+"""One call from a (series, spec) pair to everything the panes, the CLI and the memo show.
+
+:func:`evaluate` fits a candidate (exactly, or as a fast preview), runs every
+residual check on it and, given its parent, tests the step. Results are
+small frozen values; :class:`FitCache` keeps them by (series, spec, kind) so
+returning to a candidate costs nothing.
+
+All residual checks use the standardized one-step prediction errors
+:math:`e_t / \\sqrt{F_t}` (for the exact fit these are independent N(0, 1)
+under the model, exactly, whereas raw innovations have a larger variance at
+the start of the series), with the burn-in left out. Ljung-Box degrees of
+freedom are reduced by the number of AR and MA coefficients, seasonal ones
+included.
+"""
+
+from __future__ import annotations
+
+from collections import OrderedDict
+from dataclasses import dataclass
+from threading import Lock
+
+from .compare import StepTest, nested_test
+from .diagnostics import Diagnostics, diagnose
+from .errors import LagwrightError
+from .fit import DEFAULT_START, fit_exact
+from .preview import fit_preview
+from .result import Fit
+from .series import Series
+from .spec import ModelSpec
+
+
+@dataclass(frozen=True, eq=False)
+class Evaluation:
+    """A fitted candidate with its residual checks and the test of its step.
+
+    Attributes
+    ----------
+    fit : Fit
+    diagnostics : Diagnostics or None
+        ``None`` when the fit failed or the checks could not run; then
+        ``diagnostics_error`` says why.
+    step_test : StepTest or None
+        Against the parent, when a parent was given.
+    diagnostics_error : str
+    """
+
+    fit: Fit
+    diagnostics: Diagnostics | None
+    step_test: StepTest | None = None
+    diagnostics_error: str = ""
+
+    @property
+    def spec(self) -> ModelSpec:
+        return self.fit.spec
+
+    @property
+    def is_preview(self) -> bool:
+        return self.fit.is_preview
+
+
+def diagnose_fit(fit: Fit) -> tuple[Diagnostics | None, str]:
+    """Run :func:`~lagwright.core.diagnostics.diagnose` on a fit's residuals (burn-in excluded)."""
+    if not fit.ok:
+        return None, fit.failure
+    _, std = fit.diagnostic_residuals()
+    season = fit.spec.s if (fit.spec.sar or fit.spec.sma or fit.spec.D) else 0
+    try:
+        return diagnose(std, std, n_arma=fit.spec.n_arma_coefficients, season=season), ""
+    except LagwrightError as exc:
+        return None, f"The residual checks could not run: {exc}"
+
+
+def evaluate(
+    series: Series,
+    spec: ModelSpec,
+    *,
+    kind: str = "exact",
+    parent: Fit | None = None,
+    start: str = DEFAULT_START,
+) -> Evaluation:
+    """Fit ``spec`` on ``series``, check its residuals and test it against ``parent``.
+
+    Parameters
+    ----------
+    kind : {"exact", "preview"}
+    parent : Fit, optional
+        The exact fit of the candidate this one was made from.
+    start : str
+        Start strategy for the exact fit (see :func:`~lagwright.core.fit.fit_exact`).
+
+    Raises
+    ------
+    InputError
+        Only when the series itself is unusable. A model that cannot be
+        fitted yields an :class:`Evaluation` whose fit says so.
+    """
+    if kind == "exact":
+        fit = fit_exact(series, spec, start=start, parent=parent)
+    elif kind == "preview":
+        fit = fit_preview(series, spec)
+    else:
+        raise ValueError(f"unknown fit kind {kind!r}")
+    diagnostics, error = diagnose_fit(fit)
+    step = nested_test(parent, fit) if parent is not None and fit.kind == "exact" else None
+    return Evaluation(fit=fit, diagnostics=diagnostics, step_test=step, diagnostics_error=error)
+
+
+class FitCache:
+    """A bounded, thread-safe cache of evaluations keyed by (series, spec, kind).
+
+    A fit is a pure function of the data and the spec, so the key is the
+    series fingerprint, the spec (hashable) and the fit kind.
+    """
+
+    def __init__(self, capacity: int = 256):
+        self._capacity = capacity
+        self._items: OrderedDict[tuple, Evaluation] = OrderedDict()
+        self._lock = Lock()
+
+    @staticmethod
+    def key(series: Series, spec: ModelSpec, kind: str) -> tuple:
+        return (series.fingerprint, spec, kind)
+
+    def get(self, series: Series, spec: ModelSpec, kind: str) -> Evaluation | None:
+        key = self.key(series, spec, kind)
+        with self._lock:
+            item = self._items.get(key)
+            if item is not None:
+                self._items.move_to_end(key)
+            return item
+
+    def put(self, series: Series, evaluation: Evaluation) -> None:
+        key = self.key(series, evaluation.spec, evaluation.fit.kind)
+        with self._lock:
+            self._items[key] = evaluation
+            self._items.move_to_end(key)
+            while len(self._items) > self._capacity:
+                self._items.popitem(last=False)
+
+    def __len__(self) -> int:
+        with self._lock:
+            return len(self._items)
