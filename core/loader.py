@@ -143,6 +143,7 @@ class _Table:
     first_sheet_row: int = 2  # sheet row (1-based) of data row 1
     text: str | None = None  # decoded text, to map data rows to file lines
     header: bool = True
+    other_sheets: tuple[str, ...] = ()
     notes: list[str] = field(default_factory=list)
     _lines: list[int] | None = None
 
@@ -243,9 +244,16 @@ def _load(path, value, time, sheet) -> Series:
     frame = table.frame
     rows_read = len(frame)
 
-    time_col = _pick_time_column(table, time)
-    value_col = _pick_value_column(table, value, time_col)
-    values = _to_numbers(table, value_col)
+    try:
+        time_col = _pick_time_column(table, time)
+        value_col = _pick_value_column(table, value, time_col)
+        values = _to_numbers(table, value_col)
+    except InputError as exc:
+        if table.other_sheets and sheet is None:
+            others = ", ".join(f"'{n}'" for n in table.other_sheets)
+            raise InputError(f"{exc} (This is the sheet '{table.sheet}'; the workbook also has {others}: "
+                             "choose one with --sheet NAME.)") from None
+        raise
     notes = table.notes
 
     keep = np.ones(rows_read, dtype=bool)
@@ -559,7 +567,7 @@ def _read_workbook(data: bytes, source: str, sheet) -> _Table:
             warnings.simplefilter("ignore")
             book = pd.ExcelFile(io.BytesIO(data), engine="openpyxl")
             names = [str(n) for n in book.sheet_names]
-    except Exception:
+    except Exception:  # openpyxl and zipfile raise many kinds for a damaged workbook
         raise InputError(
             f"'{source}' could not be opened as an Excel workbook (it may be damaged or another kind of "
             "ZIP file). Open it in a spreadsheet program and save it again as .xlsx, or load a CSV."
@@ -619,7 +627,7 @@ def _read_workbook(data: bytes, source: str, sheet) -> _Table:
     if not has_header:
         notes.append("The first row holds data, not names; the columns were named column 1, column 2, ...")
     return _Table(frame=frame, source=source, workbook=True, sheet=chosen, first_sheet_row=start + 1,
-                  header=has_header, notes=notes)
+                  header=has_header, other_sheets=tuple(n for n in names if n != chosen), notes=notes)
 
 
 def _is_missing(cell) -> bool:
