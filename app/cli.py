@@ -156,7 +156,10 @@ def main(argv: list[str] | None = None) -> int:
     try:
         if not argv or (len(argv) == 1 and not argv[0].startswith("-") and argv[0] not in ("fit",)):
             return _run_window(argv[0] if argv else None)
-        args = build_parser().parse_args(argv)
+        try:
+            args = build_parser().parse_args(argv)
+        except SystemExit as exc:  # --help, or a bad option already reported in one line
+            return int(exc.code or 0)
         if args.version:
             from importlib.metadata import version
 

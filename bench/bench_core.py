@@ -43,7 +43,8 @@ from lagwright.core.spec import ModelSpec  # noqa: E402
 def simulate(n: int, seed: int = 2026) -> np.ndarray:
     rng = np.random.default_rng(seed)
     e = rng.standard_normal(n + 500)
-    return signal.lfilter([1.0, -0.6, 0.2], [1.0, 0.4, 0.15], e)[500:] + 10.0
+    # lfilter(MA polynomial, AR polynomial, shocks)
+    return signal.lfilter([1.0, 0.4, 0.15], [1.0, -0.6, 0.2], e)[500:] + 10.0
 
 
 def best_of(repeat: int, func):

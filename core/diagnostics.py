@@ -35,7 +35,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
-from types import MappingProxyType
+from .frozen import FrozenMap
 
 import numpy as np
 from scipy import fft as sp_fft
@@ -59,7 +59,7 @@ ALPHA = 0.05
 #: Kolmogorov-Smirnov coefficients K_alpha for the cumulative periodogram
 #: bands (asymptotic two-sided critical values of sqrt(q)·D; standard tables,
 #: also printed in Box, Jenkins, Reinsel & Ljung, ch. 8; values from memory).
-KS_COEFFICIENTS: Mapping[float, float] = MappingProxyType({0.10: 1.22, 0.05: 1.36, 0.01: 1.63})
+KS_COEFFICIENTS: Mapping[float, float] = FrozenMap({0.10: 1.22, 0.05: 1.36, 0.01: 1.63})
 
 #: Largest number of values for which the Shapiro-Wilk test is used; above it
 #: the D'Agostino-Pearson K² test is used (scipy's Shapiro-Wilk p-value is
@@ -688,10 +688,10 @@ def cumulative_periodogram(resid) -> CumulativePeriodogram:
         ordinates=_read_only(ordinates),
         cumulative=_read_only(cumulative),
         reference=_read_only(reference),
-        band=MappingProxyType(band),
+        band=FrozenMap(band),
         max_deviation=max_dev,
         max_deviation_frequency=float((where + 1) / n),
-        reject=MappingProxyType(reject),
+        reject=FrozenMap(reject),
         verdict="outside the 5 % band" if reject[0.05] else "inside the 5 % band",
     )
 

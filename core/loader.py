@@ -106,7 +106,9 @@ _TIME_WORDS = frozenset(
         "week", "weeks", "year", "years", "quarter", "hour", "minute", "when",
     }
 )
-_INDEX_WORDS = frozenset({"index", "idx", "row", "rownum", "obs", "observation", "no", "nr", "id", "t", "n", "#", ""})
+_INDEX_WORDS = frozenset(
+    {"index", "idx", "row", "rownum", "obs", "observation", "no", "nr", "id", "t", "n", "#", ""}
+)
 
 _ISO_STAMP = re.compile(
     r"^\d{4}-\d{1,2}(-\d{1,2})?([T ]\d{1,2}(:\d{2}(:\d{2}(\.\d+)?)?)?)?\s*(Z|[+-]\d{2}(:?\d{2})?)?$"
@@ -345,7 +347,9 @@ def _read_bytes(path: Path) -> bytes:
     except InputError:
         raise
     except FileNotFoundError:
-        raise InputError(f"The file '{name}' does not exist. Check the name and the folder, then try again.") from None
+        raise InputError(
+            f"The file '{name}' does not exist. Check the name and the folder, then try again."
+        ) from None
     except IsADirectoryError:
         raise InputError(f"'{name}' is a folder, not a data file. Choose a CSV or Excel file inside it.") from None
     except PermissionError:
@@ -468,7 +472,9 @@ def _sniff_delimiter(lines: list[str], prefer_tab: bool) -> str | None:
 
 def _is_data_cell(cell) -> bool:
     """Whether a header cell looks like data (a number or a date) rather than a name."""
-    if isinstance(cell, (int, float, np.number, _dt.date, _dt.datetime, pd.Timestamp)) and not isinstance(cell, bool):
+    if isinstance(cell, bool):
+        return False
+    if isinstance(cell, (int, float, np.number, _dt.date, _dt.datetime, pd.Timestamp)):
         return True
     if not isinstance(cell, str):
         return False
@@ -541,7 +547,9 @@ def _read_text(data: bytes, source: str, prefer_tab: bool) -> _Table:
             "and remove the extra fields, then load it again."
         ) from None
     except pd.errors.EmptyDataError:
-        raise InputError(f"'{source}' has no data rows. Choose a file with a header row and data under it.") from None
+        raise InputError(
+            f"'{source}' has no data rows. Choose a file with a header row and data under it."
+        ) from None
     except Exception as exc:  # pandas parser errors come in several classes
         detail = str(exc).strip().splitlines()[-1] if str(exc).strip() else exc.__class__.__name__
         raise InputError(
@@ -573,35 +581,21 @@ def _read_workbook(data: bytes, source: str, sheet) -> _Table:
             "ZIP file). Open it in a spreadsheet program and save it again as .xlsx, or load a CSV."
         ) from None
     listing = ", ".join(f"'{n}'" for n in names)
-    if not names:
-        raise InputError(f"The workbook '{source}' has no sheets.")
-    if sheet is None:
-        chosen = names[0]
-    elif isinstance(sheet, str) and sheet in names:
-        chosen = sheet
-    elif isinstance(sheet, str) and sheet.strip().lower() in {n.lower() for n in names}:
-        chosen = next(n for n in names if n.lower() == sheet.strip().lower())
-    else:
-        try:
-            index = int(sheet) if not isinstance(sheet, bool) else None
-        except (TypeError, ValueError):
-            index = None
-        if index is None or not 0 <= index < len(names) or (isinstance(sheet, float) and sheet != index):
-            raise InputError(
-                f"The workbook '{source}' has no sheet {sheet!r}. Its sheets are {listing}; give a name "
-                f"or a number from 0 to {len(names) - 1}."
-            )
-        chosen = names[index]
     try:
+        chosen = _choose_sheet(names, sheet, source)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             raw = pd.read_excel(book, sheet_name=chosen, header=None)
-    except Exception as exc:
+    except InputError:
+        raise
+    except Exception as exc:  # cell values openpyxl or pandas cannot convert
         detail = str(exc).strip().splitlines()[-1] if str(exc).strip() else exc.__class__.__name__
         raise InputError(
             f"The sheet '{chosen}' of '{source}' could not be read ({detail}). Open the workbook in a "
             "spreadsheet program, save it again as .xlsx, and try again."
         ) from None
+    finally:
+        book.close()
     raw = raw.dropna(axis=1, how="all")
     filled = np.flatnonzero(raw.notna().any(axis=1).to_numpy())
     if filled.size == 0:
@@ -628,6 +622,32 @@ def _read_workbook(data: bytes, source: str, sheet) -> _Table:
         notes.append("The first row holds data, not names; the columns were named column 1, column 2, ...")
     return _Table(frame=frame, source=source, workbook=True, sheet=chosen, first_sheet_row=start + 1,
                   header=has_header, other_sheets=tuple(n for n in names if n != chosen), notes=notes)
+
+
+def _choose_sheet(names: list[str], sheet, source: str) -> str:
+    """The sheet named ``sheet`` (exactly, then ignoring case) or at 0-based index ``sheet``."""
+    if not names:
+        raise InputError(f"The workbook '{source}' has no sheets. Choose a workbook with the data in a sheet.")
+    if sheet is None:
+        return names[0]
+    if isinstance(sheet, str):
+        if sheet in names:
+            return sheet
+        folded = [n for n in names if n.lower() == sheet.strip().lower()]
+        if len(folded) == 1:
+            return folded[0]
+    index = None
+    if isinstance(sheet, (int, np.integer)) and not isinstance(sheet, bool):
+        index = int(sheet)
+    elif isinstance(sheet, str) and sheet.strip().isdigit():
+        index = int(sheet.strip())
+    if index is not None and 0 <= index < len(names):
+        return names[index]
+    listing = ", ".join(f"'{n}'" for n in names)
+    raise InputError(
+        f"The workbook '{source}' has no sheet {sheet!r}. Its sheets are {listing}; give a name "
+        f"or a number from 0 (the first sheet) to {len(names) - 1}."
+    )
 
 
 def _is_missing(cell) -> bool:
@@ -1012,13 +1032,16 @@ def _parse_text_stamps(text: pd.Series) -> tuple[pd.Series, list[str]]:
 
 
 def _parse_leftovers(text: pd.Series, results: list) -> tuple[pd.Series, list[str]]:
-    """No single format fits every stamp: keep the best format's reading and parse the
-    rest one by one (dateutil through ``format="mixed"``), giving up early when a first
-    batch of them fails entirely."""
+    """Parse stamps that no single format fits.
+
+    The best format's reading is kept and the rest are parsed one by one
+    (dateutil, through ``format="mixed"``), giving up early when a first batch
+    of them fails entirely.
+    """
     if results:
-        failures, _, dayfirst, parsed, note = min(results, key=lambda r: r[0])
+        _, _, dayfirst, parsed, note = min(results, key=lambda r: r[0])
     else:
-        failures, dayfirst, note = len(text), False, None
+        dayfirst, note = False, None
         parsed = pd.Series(pd.NaT, index=text.index, dtype="datetime64[ns]")
     left = text[parsed.isna().to_numpy()]
     batch = 1000
@@ -1103,7 +1126,9 @@ def _to_stamps(table: _Table, name: str) -> np.ndarray:
     try:
         return parsed.to_numpy(dtype="datetime64[ns]", na_value=np.datetime64("NaT"))
     except Exception:  # pragma: no cover - range checked above
-        raise InputError(f"The time column '{name}' of '{source}' could not be converted to time stamps.") from None
+        raise InputError(
+            f"The time column '{name}' of '{source}' could not be converted to time stamps."
+        ) from None
 
 
 def _order_by_time(table: _Table, name: str, stamps, values, positions):

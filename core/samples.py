@@ -29,7 +29,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
-from types import MappingProxyType
+from .frozen import FrozenMap
 from typing import Mapping
 
 from .errors import InputError
@@ -37,7 +37,9 @@ from .loader import load_series
 from .series import Series
 from .spec import ModelSpec, Transform
 
-__all__ = ["SampleSeries", "SAMPLES", "DEFAULT_SAMPLE_NAME", "sample_names", "get_sample", "sample_path", "load_sample"]
+__all__ = [
+    "SampleSeries", "SAMPLES", "DEFAULT_SAMPLE_NAME", "sample_names", "get_sample", "sample_path", "load_sample",
+]
 
 #: Package that holds the sample CSV files.
 SAMPLE_PACKAGE = "lagwright.sample_series"
@@ -88,7 +90,8 @@ class SampleSeries:
     units: str = ""
 
     def __post_init__(self) -> None:
-        object.__setattr__(self, "true_params", MappingProxyType({k: float(v) for k, v in self.true_params.items()}))
+        frozen = FrozenMap({key: float(value) for key, value in self.true_params.items()})
+        object.__setattr__(self, "true_params", frozen)
 
 
 SAMPLES: tuple[SampleSeries, ...] = (

@@ -105,7 +105,7 @@ RECIPES: dict[str, Recipe] = {
     "water_demand": Recipe(random_key=71_3305, start_levels=_water_start, decimals=3),
     "parts_shipments": Recipe(random_key=40_2217, start_levels=_shipments_start, decimals=0),
     "coldstore_temperature": Recipe(random_key=95_1142, start_levels=_no_start, decimals=2, positive=False),
-    "stock_drawdown": Recipe(random_key=26_8810, start_levels=_drawdown_start, decimals=0),
+    "stock_drawdown": Recipe(random_key=26_8811, start_levels=_drawdown_start, decimals=0),
 }
 
 

@@ -18,7 +18,7 @@ from lagwright.core.spec import ModelSpec, Transform
 def series():
     rng = np.random.default_rng(11)
     e = rng.standard_normal(700)
-    x = signal.lfilter([1.0, -0.5, -0.25], [1.0], e)[200:] + 20.0
+    x = signal.lfilter([1.0], [1.0, -0.5, -0.25], e)[200:] + 20.0
     return Series(x)
 
 

@@ -15,7 +15,7 @@ from lagwright.core.spec import ModelSpec
 def _arma(n, ar=(), ma=(), seed=0, mean=0.0):
     rng = np.random.default_rng(seed)
     e = rng.standard_normal(n + 300)
-    x = signal.lfilter(np.r_[1.0, -np.asarray(ar, float)], np.r_[1.0, np.asarray(ma, float)], e)[300:]
+    x = signal.lfilter(np.r_[1.0, np.asarray(ma, float)], np.r_[1.0, -np.asarray(ar, float)], e)[300:]
     return x + mean
 
 

@@ -1,0 +1,168 @@
+"""Normal quantile plot of the standardized residuals with a pointwise 95 % envelope.
+
+Plotting positions are Blom's :math:`p_i = (i - 0.375)/(n + 0.25)`,
+i = 1..n, and the sorted residuals are plotted against
+:math:`\\Phi^{-1}(p_i)` (Blom, 1958). Because the residuals are standardized
+(σ = 1 under the model) the reference line is y = x, not a line fitted to
+the quartiles.
+
+Envelope: the i-th order statistic of n uniforms has the Beta(i, n - i + 1)
+distribution, so the 2.5 % and 97.5 % points of that Beta law, mapped through
+:math:`\\Phi^{-1}`, bound the i-th order statistic of n standard normal
+values with probability 95 % (pointwise, not simultaneous; David &
+Nagaraja, 2003, §2.1). For long series the envelope is evaluated at up to
+:data:`ENVELOPE_POINTS` ranks (all of the 50 most extreme at each end) and
+drawn as a line through them.
+
+References
+----------
+Blom, G. (1958). *Statistical Estimates and Transformed Beta-Variables*.
+Wiley.
+David, H. A. & Nagaraja, H. N. (2003). *Order Statistics*, 3rd ed., Wiley.
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+import pyqtgraph as pg
+from scipy import stats
+
+from .. import theme
+from .base import PaneMessage, ResidualPane, add_fast_curve, indices_of, make_brush, make_pen, nearest_point
+
+#: Largest number of ranks at which the envelope is evaluated.
+ENVELOPE_POINTS = 1200
+#: Above this many residuals the points are drawn as a line (they are sorted, so it is the same curve).
+SYMBOL_LIMIT = 3000
+
+
+def blom_positions(n: int) -> np.ndarray:
+    """Blom's plotting positions (i - 0.375)/(n + 0.25), i = 1..n."""
+    i = np.arange(1, n + 1, dtype=float)
+    return (i - 0.375) / (n + 0.25)
+
+
+def envelope_ranks(n: int, max_points: int = ENVELOPE_POINTS) -> np.ndarray:
+    """1-based ranks at which the envelope is evaluated: all of them, or the tails plus a spread."""
+    if n <= max_points:
+        return np.arange(1, n + 1)
+    tail = 50
+    middle = np.unique(np.round(np.linspace(tail + 1, n - tail, max_points - 2 * tail)).astype(np.int64))
+    return np.concatenate([np.arange(1, tail + 1), middle, np.arange(n - tail + 1, n + 1)])
+
+
+@lru_cache(maxsize=8)
+def normal_envelope(n: int, level: float = 0.95) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Pointwise ``level`` envelope of standard normal order statistics.
+
+    Returns ``(ranks, lower, upper)``: ranks (1-based) and the bounds
+    :math:`\\Phi^{-1}(B^{-1}_{i, n-i+1}((1 \\mp level)/2))` there.
+    """
+    ranks = envelope_ranks(n)
+    a, b = ranks.astype(float), (n - ranks + 1).astype(float)
+    tail = (1.0 - level) / 2.0
+    lower = stats.norm.ppf(stats.beta.ppf(tail, a, b))
+    upper = stats.norm.ppf(stats.beta.ppf(1.0 - tail, a, b))
+    for arr in (ranks, lower, upper):
+        arr.setflags(write=False)
+    return ranks, lower, upper
+
+
+class NormalQuantilePane(ResidualPane):
+    """Sorted standardized residuals against normal quantiles at Blom's positions.
+
+    Attributes
+    ----------
+    points : pyqtgraph.PlotDataItem
+        x: ``norm.ppf(blom_positions(n))``; y: sorted residuals.
+    reference_line : pyqtgraph.PlotDataItem
+        y = x.
+    envelope_lower, envelope_upper : pyqtgraph.PlotDataItem
+        The pointwise 95 % envelope at the ranks of :func:`envelope_ranks`.
+    envelope_fill : pyqtgraph.FillBetweenItem
+    selected_item : pyqtgraph.ScatterPlotItem
+    """
+
+    pane_title = "Normal quantile plot"
+    _item_names = (
+        "points", "reference_line", "envelope_lower", "envelope_upper", "envelope_fill", "selected_item",
+    )
+
+    def _build(self) -> None:
+        self.plot = self.add_plot(0, 0, x_label="normal quantile", y_label="standardized residual")
+        self.theoretical = np.empty(0)
+        self.ordered = np.empty(0)
+        self.order = np.empty(0, dtype=np.intp)
+        self.rank_of = np.empty(0, dtype=np.intp)
+        self.positions = np.empty(0, dtype=np.int64)
+
+    def _draw(self, evaluation, series) -> None:
+        fit = evaluation.fit
+        _, z = fit.diagnostic_residuals()
+        n = z.size
+        if n < 3:
+            raise PaneMessage("Too few residuals for a quantile plot.")
+        self.positions = fit.diagnostic_positions().astype(np.int64)
+        order = np.argsort(z, kind="stable")
+        rank_of = np.empty(n, dtype=np.intp)
+        rank_of[order] = np.arange(n)
+        theoretical = stats.norm.ppf(blom_positions(n))
+        ordered = z[order]
+        self.theoretical, self.ordered, self.order, self.rank_of = theoretical, ordered, order, rank_of
+
+        ranks, lower, upper = normal_envelope(n)
+        ex = theoretical[ranks - 1]
+        band_pen = make_pen(theme.BAND, width=1.2)
+        self.envelope_lower = pg.PlotDataItem(ex, lower, pen=band_pen, antialias=True)
+        self.envelope_upper = pg.PlotDataItem(ex, upper, pen=band_pen, antialias=True)
+        self.envelope_fill = pg.FillBetweenItem(self.envelope_lower, self.envelope_upper, brush=make_brush(theme.BAND, 0.18))
+        lim = max(float(np.max(np.abs(theoretical))), float(np.max(np.abs(ordered)))) * 1.05
+        self.reference_line = pg.PlotDataItem([-lim, lim], [-lim, lim], pen=make_pen(theme.REFERENCE, width=1.5), antialias=True)
+        for item in (self.envelope_fill, self.envelope_lower, self.envelope_upper, self.reference_line):
+            self.plot.addItem(item)
+        if n <= SYMBOL_LIMIT:
+            self.points = add_fast_curve(self.plot, theoretical, ordered, None, symbol="o", symbolSize=5, symbolPen=None)
+        else:
+            self.points = add_fast_curve(self.plot, theoretical, ordered, None)
+        self._restyle()
+        self.selected_item = pg.ScatterPlotItem(
+            x=[], y=[], symbol="o", size=14, pen=make_pen(theme.ATTENTION, width=2.2), brush=None
+        )
+        self.plot.addItem(self.selected_item)
+        self.plot.setXRange(float(theoretical[0]) * 1.05, float(theoretical[-1]) * 1.05, padding=0)
+        ylo, yhi = min(float(ordered[0]), float(lower[0])), max(float(ordered[-1]), float(upper[-1]))
+        pad = 0.05 * (yhi - ylo)
+        self.plot.setYRange(ylo - pad, yhi + pad, padding=0)
+        outside = int(np.count_nonzero((ordered[ranks - 1] < lower) | (ordered[ranks - 1] > upper)))
+        shown = "" if ranks.size == n else f" of {ranks.size} checked"
+        self.set_status(
+            f"n = {n}; Blom positions; band: pointwise 95 % (Beta order statistics); "
+            f"{outside}{shown} outside"
+        )
+
+    def _restyle(self) -> None:
+        if getattr(self, "points", None) is None:
+            return
+        code = self.data_colour
+        if self.points.opts.get("symbol") is not None:
+            self.points.setSymbolPen(None)
+            self.points.setSymbolBrush(make_brush(code, 0.8))
+        else:
+            self.points.setPen(make_pen(code, width=2))
+
+    def _highlight(self, positions: tuple[int, ...]) -> None:
+        if getattr(self, "selected_item", None) is None:
+            self._highlighted = ()
+            return
+        idx = indices_of(self.positions, positions)
+        ranks = self.rank_of[idx]
+        self.selected_item.setData(x=self.theoretical[ranks], y=self.ordered[ranks])
+        self._highlighted = tuple(int(p) for p in self.positions[idx])
+
+    def _pick(self, plot, x: float, y: float):
+        if self.points is None:
+            return None
+        r = nearest_point(plot, self.theoretical, self.ordered, x, y, x_sorted=True)
+        return () if r is None else (int(self.positions[self.order[r]]),)

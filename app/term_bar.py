@@ -1,0 +1,147 @@
+"""The term bar: the current candidate's lags as chips, and the one-step actions.
+
+Each chip is a lag the model has; clicking its × drops it. The buttons add
+the next lag of a kind, or any lag typed in (subset models such as
+AR{1,12}). The bar only emits what the user asked for; the window makes the
+step.
+"""
+
+from __future__ import annotations
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QComboBox,
+    QHBoxLayout,
+    QLabel,
+    QSpinBox,
+    QToolButton,
+    QWidget,
+)
+
+from lagwright.core.spec import ModelSpec
+
+from . import theme
+
+KIND_NAMES = {"ar": "AR", "ma": "MA", "sar": "SAR", "sma": "SMA"}
+KIND_TIPS = {
+    "ar": "Autoregressive term: the series depends on its own value that many steps back.",
+    "ma": "Moving-average term: the series depends on the shock that many steps back.",
+    "sar": "Seasonal autoregressive term: lag in whole seasons (1 = one period s back).",
+    "sma": "Seasonal moving-average term: lag in whole seasons (1 = one period s back).",
+}
+
+
+class TermBar(QWidget):
+    """Chips for the current spec's lags, and buttons that request one step.
+
+    Signals
+    -------
+    term_added(kind, lag), term_dropped(kind, lag), constant_chosen(constant)
+    """
+
+    term_added = Signal(str, int)
+    term_dropped = Signal(str, int)
+    constant_chosen = Signal(str)
+
+    def __init__(self, parent: QWidget | None = None):
+        super().__init__(parent)
+        self._spec: ModelSpec | None = None
+        layout = QHBoxLayout(self)
+        layout.setContentsMargins(6, 2, 6, 2)
+        layout.setSpacing(4)
+        self._label = QLabel("—")
+        self._label.setTextFormat(Qt.TextFormat.PlainText)
+        font = self._label.font()
+        font.setBold(True)
+        self._label.setFont(font)
+        layout.addWidget(self._label)
+        self._chips = QHBoxLayout()
+        self._chips.setSpacing(3)
+        layout.addLayout(self._chips)
+        layout.addStretch(1)
+        self.add_buttons: dict[str, QToolButton] = {}
+        for kind in ("ar", "ma", "sar", "sma"):
+            button = QToolButton()
+            button.setText(f"+{KIND_NAMES[kind]}")
+            button.setToolTip(f"Add the next {KIND_NAMES[kind]} lag. {KIND_TIPS[kind]}")
+            button.clicked.connect(lambda _=False, k=kind: self._add_next(k))
+            layout.addWidget(button)
+            self.add_buttons[kind] = button
+        layout.addSpacing(10)
+        self.kind_box = QComboBox()
+        for kind, name in KIND_NAMES.items():
+            self.kind_box.addItem(name, kind)
+        self.kind_box.setToolTip("Kind of the lag to add")
+        self.lag_box = QSpinBox()
+        self.lag_box.setRange(1, 999)
+        self.lag_box.setToolTip("Any lag, for subset models such as AR{1,12}")
+        self.add_lag_button = QToolButton()
+        self.add_lag_button.setText("Add lag")
+        self.add_lag_button.setToolTip("Add the chosen kind at exactly this lag")
+        self.add_lag_button.clicked.connect(self._add_typed)
+        for widget in (self.kind_box, self.lag_box, self.add_lag_button):
+            layout.addWidget(widget)
+        layout.addSpacing(10)
+        layout.addWidget(QLabel("Constant:"))
+        self.constant_box = QComboBox()
+        self.constant_box.setToolTip(
+            "A mean for an undifferenced series, a drift (linear trend) with one difference; "
+            "none otherwise."
+        )
+        self.constant_box.activated.connect(self._constant_activated)
+        layout.addWidget(self.constant_box)
+
+    # ----------------------------------------------------------------- API
+    def set_spec(self, spec: ModelSpec | None, enabled: bool = True) -> None:
+        """Show ``spec``'s lags as chips (or nothing when ``None``)."""
+        self._spec = spec
+        while self._chips.count():
+            item = self._chips.takeAt(0)
+            if item.widget() is not None:
+                item.widget().deleteLater()
+        self.chip_buttons: list[QToolButton] = []
+        if spec is None:
+            self._label.setText("—")
+            self.setEnabled(False)
+            return
+        self.setEnabled(enabled)
+        self._label.setText(spec.label)
+        for kind, name in KIND_NAMES.items():
+            for lag in spec.lags(kind):
+                chip = QToolButton()
+                shown = lag * spec.s if kind in ("sar", "sma") else lag
+                chip.setText(f"{name} {shown} ×")
+                chip.setToolTip(f"Drop {name} lag {shown} (makes a new candidate; the current one stays)")
+                chip.setStyleSheet(
+                    f"QToolButton {{ border: 1px solid {theme.DATA}; border-radius: 9px; padding: 1px 7px; }}"
+                    f"QToolButton:hover {{ border-color: {theme.ATTENTION}; }}"
+                )
+                chip.setProperty("term", (kind, lag))
+                chip.clicked.connect(lambda _=False, k=kind, g=lag: self.term_dropped.emit(k, g))
+                self._chips.addWidget(chip)
+                self.chip_buttons.append(chip)
+        seasonal_ok = spec.s >= 2
+        self.add_buttons["sar"].setEnabled(seasonal_ok)
+        self.add_buttons["sma"].setEnabled(seasonal_ok)
+        self.constant_box.blockSignals(True)
+        self.constant_box.clear()
+        allowed = ["none", "mean"] if spec.differencing_order == 0 else (
+            ["none", "drift"] if spec.differencing_order == 1 else ["none"])
+        for value in allowed:
+            self.constant_box.addItem(value, value)
+        self.constant_box.setCurrentIndex(max(0, allowed.index(spec.constant) if spec.constant in allowed else 0))
+        self.constant_box.blockSignals(False)
+
+    # -------------------------------------------------------------- slots
+    def _add_next(self, kind: str) -> None:
+        if self._spec is not None:
+            self.term_added.emit(kind, self._spec.next_lag(kind))
+
+    def _add_typed(self) -> None:
+        if self._spec is not None:
+            self.term_added.emit(self.kind_box.currentData(), self.lag_box.value())
+
+    def _constant_activated(self, index: int) -> None:
+        value = self.constant_box.itemData(index)
+        if self._spec is not None and value != self._spec.constant:
+            self.constant_chosen.emit(value)

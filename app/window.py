@@ -1,0 +1,730 @@
+"""The workbench window: lineage, term bar, linked residual panes, tests panel.
+
+The window owns no statistics: it asks :mod:`lagwright.core` through the
+:class:`~lagwright.app.fit_service.FitService` and draws what comes back.
+Every candidate is fitted twice: a preview (conditional sum of squares,
+drawn at once and marked as such) and the exact fit that replaces it. A
+response is drawn only if it is the latest request for the candidate in
+view; anything else is cached for later and never drawn over newer work.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+from PySide6.QtCore import QStandardPaths, Qt, QTimer
+from PySide6.QtGui import QAction, QKeySequence
+from PySide6.QtWidgets import (
+    QApplication,
+    QFileDialog,
+    QGridLayout,
+    QHBoxLayout,
+    QLabel,
+    QMainWindow,
+    QMessageBox,
+    QPlainTextEdit,
+    QSplitter,
+    QTabWidget,
+    QToolButton,
+    QVBoxLayout,
+    QWidget,
+)
+
+from lagwright.core import samples
+from lagwright.core.compare import nested_test
+from lagwright.core.errors import LagwrightError
+from lagwright.core.evaluate import Evaluation
+from lagwright.core.history import History, Snapshot
+from lagwright.core.lineage import Lineage
+from lagwright.core.loader import load_series
+from lagwright.core.prepare import estimate_boxcox_lambda
+from lagwright.core.series import Series
+from lagwright.core.session import SUFFIX, DataReference, Session, read_session, write_session
+from lagwright.core.spec import ModelSpec
+
+from . import theme
+from .compare_view import CompareView
+from .fit_service import FitResponse, FitService
+from .lineage_view import LineageView
+from .panes import (
+    CorrelationPane,
+    CumulativePeriodogramPane,
+    IdentificationPane,
+    NormalQuantilePane,
+    ResidualHistogramPane,
+    ResidualSelection,
+    ResidualTracePane,
+    RootMapPane,
+)
+from .prepare_bar import PrepareBar
+from .term_bar import TermBar
+from .tests_panel import TestsPanel
+
+#: Seasonal period suggested for a detected frequency (common practice).
+SEASON_FOR_FREQUENCY = {"D": 7, "B": 5, "W": 52, "MS": 12, "ME": 12, "M": 12, "QS": 4, "QE": 4, "Q": 4,
+                        "h": 24, "H": 24, "10min": 144, "15min": 96, "30min": 48}
+
+
+def _season_guess(frequency: str | None) -> int:
+    if not frequency:
+        return 0
+    for key, value in SEASON_FOR_FREQUENCY.items():
+        if frequency == key or frequency.startswith(key + "-") or frequency.startswith(key):
+            return value
+    return 0
+
+
+class MainWindow(QMainWindow):
+    """Lagwright's main window.
+
+    Parameters
+    ----------
+    use_processes : bool
+        Run exact fits in a worker process (the normal case) or a thread (tests).
+    recovery_path : Path, optional
+        Where the autosaved recovery session lives (default: the user's
+        application-data folder).
+    ask_restore : bool
+        Offer to restore a recovery file found at start.
+    """
+
+    def __init__(self, use_processes: bool = True, recovery_path: Path | None = None, ask_restore: bool = True):
+        super().__init__()
+        self.setWindowTitle("Lagwright")
+        self.resize(1500, 940)
+        self.service = FitService(use_processes=use_processes, parent=self)
+        self.service.fit_finished.connect(self._on_fit_finished)
+        self.series: Series | None = None
+        self.data_ref = DataReference()
+        self.history: History | None = None
+        self.session_path: Path | None = None
+        self.evaluations: dict[ModelSpec, Evaluation] = {}
+        self.failures: dict[ModelSpec, str] = {}
+        self.latest: dict[tuple[ModelSpec, str], int] = {}
+        self.drawn: tuple[ModelSpec, str] | None = None
+        self._updating_note = False
+        if recovery_path is None:
+            folder = Path(QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation) or Path.home())
+            recovery_path = folder / ("recovery" + SUFFIX)
+        self.recovery_path = Path(recovery_path)
+        self._autosave_timer = QTimer(self)
+        self._autosave_timer.setSingleShot(True)
+        self._autosave_timer.setInterval(800)
+        self._autosave_timer.timeout.connect(self._autosave)
+        self._build()
+        self._build_actions()
+        self._ask_restore = ask_restore
+
+    # ================================================================ layout
+    def _build(self) -> None:
+        central = QWidget()
+        outer = QVBoxLayout(central)
+        outer.setContentsMargins(4, 4, 4, 4)
+        outer.setSpacing(2)
+        self.prepare_bar = PrepareBar()
+        self.term_bar = TermBar()
+        outer.addWidget(self.prepare_bar)
+        outer.addWidget(self.term_bar)
+        self.banner = QWidget()
+        banner_layout = QHBoxLayout(self.banner)
+        banner_layout.setContentsMargins(8, 4, 8, 4)
+        self.banner_label = QLabel()
+        self.banner_label.setWordWrap(True)
+        self.banner_label.setTextFormat(Qt.TextFormat.PlainText)
+        close = QToolButton()
+        close.setText("×")
+        close.setToolTip("Dismiss this message")
+        close.clicked.connect(self.banner.hide)
+        banner_layout.addWidget(self.banner_label, 1)
+        banner_layout.addWidget(close)
+        self.banner.setStyleSheet(f"background: {theme.BAND}33; border-radius: 4px;")
+        self.banner.hide()
+        outer.addWidget(self.banner)
+
+        self.selection = ResidualSelection(self)
+        self.trace_pane = ResidualTracePane(self.selection)
+        self.histogram_pane = ResidualHistogramPane(self.selection)
+        self.quantile_pane = NormalQuantilePane(self.selection)
+        self.correlation_pane = CorrelationPane(self.selection)
+        self.periodogram_pane = CumulativePeriodogramPane(self.selection)
+        self.root_pane = RootMapPane(self.selection)
+        self.identification_pane = IdentificationPane(self.selection)
+        self.residual_panes = (self.trace_pane, self.histogram_pane, self.quantile_pane, self.correlation_pane,
+                               self.periodogram_pane, self.root_pane)
+        # Zooming the time axis of the trace keeps the prepared series in step.
+        self.identification_pane.time_view_box().setXLink(self.trace_pane.time_view_box())
+
+        grid_page = QWidget()
+        grid = QGridLayout(grid_page)
+        grid.setContentsMargins(0, 0, 0, 0)
+        grid.addWidget(self.trace_pane, 0, 0)
+        grid.addWidget(self.correlation_pane, 0, 1)
+        grid.addWidget(self.histogram_pane, 1, 0)
+        grid.addWidget(self.quantile_pane, 1, 1)
+        more_page = QWidget()
+        more = QHBoxLayout(more_page)
+        more.setContentsMargins(0, 0, 0, 0)
+        more.addWidget(self.periodogram_pane)
+        more.addWidget(self.root_pane)
+        self.compare_view = CompareView()
+        self.tabs = QTabWidget()
+        self.tabs.addTab(grid_page, "Residuals")
+        self.tabs.addTab(more_page, "Periodogram && roots")
+        self.tabs.addTab(self.identification_pane, "Prepared series")
+        self.tabs.addTab(self.compare_view, "Side by side")
+
+        left = QWidget()
+        left_layout = QVBoxLayout(left)
+        left_layout.setContentsMargins(0, 0, 0, 0)
+        left_layout.addWidget(QLabel("Lineage"))
+        self.lineage_view = LineageView()
+        left_layout.addWidget(self.lineage_view, 1)
+        left_layout.addWidget(QLabel("Step note (why this step?)"))
+        self.note_edit = QPlainTextEdit()
+        self.note_edit.setPlaceholderText("Your reason for this step; it goes into the session file and the memo.")
+        self.note_edit.setMaximumHeight(90)
+        left_layout.addWidget(self.note_edit)
+
+        self.tests_panel = TestsPanel()
+        splitter = QSplitter(Qt.Orientation.Horizontal)
+        splitter.addWidget(left)
+        splitter.addWidget(self.tabs)
+        splitter.addWidget(self.tests_panel)
+        splitter.setStretchFactor(0, 2)
+        splitter.setStretchFactor(1, 5)
+        splitter.setStretchFactor(2, 2)
+        splitter.setSizes([380, 800, 360])
+        outer.addWidget(splitter, 1)
+        self.setCentralWidget(central)
+        self.busy_label = QLabel()
+        self.statusBar().addPermanentWidget(self.busy_label)
+
+        self.term_bar.term_added.connect(self.add_term)
+        self.term_bar.term_dropped.connect(self.drop_term)
+        self.term_bar.constant_chosen.connect(self.set_constant)
+        self.prepare_bar.preparation_changed.connect(self._preview_preparation)
+        self.prepare_bar.branch_requested.connect(self.start_branch)
+        self.prepare_bar.lambda_estimate_requested.connect(self._estimate_lambda)
+        self.lineage_view.candidate_selected.connect(self.select_candidate)
+        self.note_edit.textChanged.connect(self._note_edited)
+        self.compare_view.pair_changed.connect(lambda a, b: self.compare_view.compare(a, b))
+        self.selection.selection_changed.connect(self._selection_changed)
+
+    def _build_actions(self) -> None:
+        menu = self.menuBar().addMenu("&File")
+        self.open_action = self._action("&Open…", QKeySequence.StandardKey.Open, self.open_dialog, menu)
+        self.save_action = self._action("&Save session", QKeySequence.StandardKey.Save, self.save, menu)
+        self._action("Save session &as…", QKeySequence("Ctrl+Shift+S"), self.save_as, menu)
+        menu.addSeparator()
+        samples_menu = menu.addMenu("Open &sample series")
+        for sample in samples.SAMPLES:
+            self._action(sample.title, None, lambda _=False, n=sample.name: self.open_sample(n), samples_menu)
+        menu.addSeparator()
+        self._action("&Quit", QKeySequence.StandardKey.Quit, self.close, menu)
+        step = self.menuBar().addMenu("&Step")
+        self.undo_action = self._action("&Undo step", QKeySequence("Ctrl+Z"), self.undo, step)
+        self.redo_action = self._action("&Redo step", QKeySequence("Ctrl+Shift+Z"), self.redo, step)
+        step.addSeparator()
+        self._action("Add next &AR lag", QKeySequence("A"), lambda: self._add_next("ar"), step)
+        self._action("Add next &MA lag", QKeySequence("M"), lambda: self._add_next("ma"), step)
+        self._action("Add next seasonal AR lag", QKeySequence("Shift+A"), lambda: self._add_next("sar"), step)
+        self._action("Add next seasonal MA lag", QKeySequence("Shift+M"), lambda: self._add_next("sma"), step)
+        self._action("&Drop the last added term", QKeySequence("Delete"), self.drop_last_added, step)
+        step.addSeparator()
+        self._action("&Next candidate", QKeySequence("Ctrl+Down"), lambda: self._move(+1), step)
+        self._action("&Previous candidate", QKeySequence("Ctrl+Up"), lambda: self._move(-1), step)
+        self._action("Compare with &parent", QKeySequence("Ctrl+D"), self.compare_with_parent, step)
+
+    def _action(self, text, shortcut, slot, menu) -> QAction:
+        action = QAction(text, self)
+        if shortcut is not None:
+            action.setShortcut(shortcut)
+            action.setShortcutContext(Qt.ShortcutContext.WindowShortcut)
+        action.triggered.connect(slot)
+        menu.addAction(action)
+        self.addAction(action)
+        return action
+
+    # ============================================================ messages
+    def notify(self, message: str) -> None:
+        """Show a message in the window (a banner and the status bar), never a traceback."""
+        self.banner_label.setText(message)
+        self.banner.show()
+        self.statusBar().showMessage(message.split("\n")[0], 15000)
+
+    # ============================================================== data
+    def open_sample(self, name: str = samples.DEFAULT_SAMPLE_NAME) -> bool:
+        try:
+            series = samples.load_sample(name)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return False
+        return self._start_series(series, DataReference(
+            path=str(samples.sample_path(name)), sha256=series.provenance.sha256,
+            value_column=series.provenance.value_column, time_column=series.provenance.time_column, sample=name))
+
+    def open_data(self, path: str | Path, value=None, time=None, sheet=None) -> bool:
+        """Load a data file and start a lineage on it; on failure, keep everything as it was."""
+        try:
+            series = load_series(path, value=value, time=time, sheet=sheet)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return False
+        return self._start_series(series, DataReference(
+            path=str(Path(path).resolve()), sha256=series.provenance.sha256,
+            value_column=series.provenance.value_column, time_column=series.provenance.time_column,
+            sheet=None if sheet is None else str(sheet)))
+
+    def _start_series(self, series: Series, ref: DataReference, lineage: Lineage | None = None,
+                      current: str | None = None) -> bool:
+        try:
+            series.check_usable()
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return False
+        self.series = series
+        self.data_ref = ref
+        self.evaluations.clear()
+        self.failures.clear()
+        self.latest.clear()
+        self.drawn = None
+        self.selection.clear()
+        if lineage is None:
+            season = _season_guess(series.frequency)
+            lineage, root = Lineage().add_root(ModelSpec(s=season, constant="mean"), step="starting model: mean only")
+            current = root.id
+        self.history = History(Snapshot(lineage, current or lineage.candidates[-1].id))
+        self.setWindowTitle(f"Lagwright — {series.name} ({series.provenance.source or 'in memory'})")
+        self.banner.hide()
+        self.statusBar().showMessage(f"Loaded {len(series)} values of {series.name}", 8000)
+        self._refresh(select=True)
+        for candidate in lineage.candidates:
+            self._ensure_fitted(candidate.spec, draw=False)
+        return True
+
+    # ============================================================ queries
+    @property
+    def lineage(self) -> Lineage | None:
+        return None if self.history is None else self.history.present.lineage
+
+    @property
+    def current_id(self) -> str | None:
+        return None if self.history is None else self.history.present.current
+
+    @property
+    def current_spec(self) -> ModelSpec | None:
+        cid = self.current_id
+        return None if cid is None else self.lineage.get(cid).spec
+
+    def evaluation_for(self, candidate_id: str) -> Evaluation | None:
+        return self.evaluations.get(self.lineage.get(candidate_id).spec)
+
+    def exact_fit(self, spec: ModelSpec):
+        ev = self.evaluations.get(spec)
+        return ev.fit if ev is not None and not ev.is_preview and ev.fit.ok else None
+
+    def busy_specs(self) -> set[ModelSpec]:
+        return {spec for (spec, kind) in self.latest if kind == "exact" and not self._has_exact(spec)
+                and spec not in self.failures}
+
+    def _has_exact(self, spec: ModelSpec) -> bool:
+        ev = self.evaluations.get(spec)
+        return ev is not None and not ev.is_preview
+
+    # ============================================================== steps
+    def _push(self, lineage: Lineage, current: str) -> None:
+        self.history.push(Snapshot(lineage, current))
+        self._refresh(select=True)
+        self._autosave_timer.start()
+
+    def add_term(self, kind: str, lag: int) -> None:
+        self._step(lambda spec: spec.with_term(kind, lag))
+
+    def drop_term(self, kind: str, lag: int) -> None:
+        self._step(lambda spec: spec.without_term(kind, lag))
+
+    def set_constant(self, constant: str) -> None:
+        self._step(lambda spec: spec.with_constant(constant))
+
+    def _add_next(self, kind: str) -> None:
+        spec = self.current_spec
+        if spec is not None:
+            if kind in ("sar", "sma") and spec.s < 2:
+                self.notify("Seasonal terms need a seasonal period: set s in the Prepare bar and start a branch.")
+                return
+            self.add_term(kind, spec.next_lag(kind))
+
+    def drop_last_added(self) -> None:
+        """Drop the term whose addition made the current candidate (if it was an addition)."""
+        if self.history is None:
+            return
+        candidate = self.lineage.get(self.current_id)
+        parent = self.lineage.parent(candidate.id)
+        if parent is None:
+            self.notify("The current candidate was not made by adding a term; click a term's × to drop it.")
+            return
+        for kind in ("ar", "ma", "sar", "sma"):
+            added = set(candidate.spec.lags(kind)) - set(parent.spec.lags(kind))
+            if added:
+                self.drop_term(kind, max(added))
+                return
+        self.notify("The current candidate was not made by adding a term; click a term's × to drop it.")
+
+    def _step(self, change) -> None:
+        if self.history is None:
+            return
+        parent_id = self.current_id
+        try:
+            spec = change(self.lineage.get(parent_id).spec)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return
+        existing = self.lineage.find(spec)
+        if existing is not None and existing.parent_id == parent_id:
+            self.select_candidate(existing.id)
+            return
+        try:
+            lineage, child = self.lineage.add_child(parent_id, spec)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return
+        self._push(lineage, child.id)
+
+    def start_branch(self, spec: ModelSpec) -> None:
+        """Start a new root with another preparation; the old candidates stay untouched."""
+        if self.history is None:
+            return
+        try:
+            from lagwright.core.prepare import prepare
+
+            prepare(self.series, spec)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return
+        existing = self.lineage.find(spec)
+        if existing is not None:
+            self.select_candidate(existing.id)
+            return
+        lineage, root = self.lineage.add_root(spec, step=f"new branch: {spec.transform.label}, d={spec.d}, "
+                                                          f"D={spec.D}, s={spec.s}", origin="user")
+        self._push(lineage, root.id)
+
+    def undo(self) -> None:
+        if self.history is not None and self.history.can_undo:
+            self.history.undo()
+            self._refresh(select=True)
+            self._autosave_timer.start()
+
+    def redo(self) -> None:
+        if self.history is not None and self.history.can_redo:
+            self.history.redo()
+            self._refresh(select=True)
+            self._autosave_timer.start()
+
+    def select_candidate(self, candidate_id: str) -> None:
+        if self.history is None or candidate_id == self.current_id or candidate_id not in self.lineage:
+            return
+        self.history.replace(Snapshot(self.lineage, candidate_id))
+        self._refresh(select=True)
+
+    def _move(self, offset: int) -> None:
+        if self.history is None:
+            return
+        ids = [c.id for c in self.lineage.candidates]
+        index = ids.index(self.current_id) + offset
+        if 0 <= index < len(ids):
+            self.select_candidate(ids[index])
+
+    def compare_with_parent(self) -> None:
+        if self.history is None:
+            return
+        candidate = self.lineage.get(self.current_id)
+        if candidate.parent_id is None:
+            self.notify("The current candidate has no parent to compare with.")
+            return
+        self.compare_view.set_candidates(self.lineage, self._evaluations_by_id())
+        self.compare_view.compare(candidate.parent_id, candidate.id)
+        self.tabs.setCurrentWidget(self.compare_view)
+
+    def _note_edited(self) -> None:
+        if self.history is None or self._updating_note:
+            return
+        text = self.note_edit.toPlainText()
+        lineage = self.lineage.with_note(self.current_id, text)
+        self.history.replace(Snapshot(lineage, self.current_id))
+        self._refresh_lineage_view()
+        self._autosave_timer.start()
+
+
+    # ============================================================ fitting
+    def _ensure_fitted(self, spec: ModelSpec, draw: bool) -> None:
+        """Ask for what is missing: a preview first (if nothing is there yet) and the exact fit."""
+        if self.series is None or spec in self.failures:
+            return
+        ev = self.evaluations.get(spec)
+        if ev is None and (spec, "preview") not in self.latest:
+            self.latest[(spec, "preview")] = self.service.submit(self.series, spec, "preview")
+        if (ev is None or ev.is_preview) and (spec, "exact") not in self.latest:
+            parent_fit = self._parent_exact_fit(spec)
+            self.latest[(spec, "exact")] = self.service.submit(self.series, spec, "exact", parent_fit)
+        self._update_busy()
+
+    def _parent_exact_fit(self, spec: ModelSpec):
+        for candidate in self.lineage.candidates:
+            if candidate.spec == spec and candidate.parent_id is not None:
+                return self.exact_fit(self.lineage.get(candidate.parent_id).spec)
+        return None
+
+    def _on_fit_finished(self, response: FitResponse) -> None:
+        key = (response.spec, response.kind)
+        if self.latest.get(key) != response.request_id:
+            return  # a request from another series or superseded: never drawn
+        spec = response.spec
+        if response.evaluation is None:
+            if response.kind == "exact":
+                self.failures[spec] = response.error
+            elif self.evaluations.get(spec) is None:
+                self.statusBar().showMessage(f"Preview unavailable: {response.error}", 8000)
+        else:
+            ev = response.evaluation
+            if response.kind == "exact" or not self._has_exact(spec):
+                self.evaluations[spec] = ev
+            if response.kind == "exact" and not ev.fit.ok:
+                self.failures[spec] = ev.fit.failure
+        self._update_busy()
+        self._refresh_lineage_view()
+        if spec == self.current_spec:
+            self._draw_current()
+        self.compare_view.set_candidates(self.lineage, self._evaluations_by_id())
+
+    def _update_busy(self) -> None:
+        n = len(self.busy_specs())
+        self.busy_label.setText(f"fitting {n} candidate{'s' if n != 1 else ''}…" if n else "")
+
+    # ============================================================ drawing
+    def _evaluations_by_id(self) -> dict[str, Evaluation | None]:
+        return {c.id: self.evaluations.get(c.spec) for c in self.lineage.candidates}
+
+    def _busy_ids(self) -> set[str]:
+        busy = self.busy_specs()
+        return {c.id for c in self.lineage.candidates if c.spec in busy}
+
+    def _refresh_lineage_view(self) -> None:
+        if self.lineage is None:
+            return
+        self.lineage_view.set_lineage(self.lineage, self._evaluations_by_id(), self._busy_ids())
+        if self.current_id:
+            self.lineage_view.select(self.current_id)
+
+    def _refresh(self, select: bool = False) -> None:
+        if self.history is None:
+            return
+        spec = self.current_spec
+        self._refresh_lineage_view()
+        self.term_bar.set_spec(spec)
+        self.prepare_bar.set_spec(spec)
+        self._updating_note = True
+        self.note_edit.setPlainText(self.lineage.get(self.current_id).note)
+        self._updating_note = False
+        self.undo_action.setEnabled(self.history.can_undo)
+        self.redo_action.setEnabled(self.history.can_redo)
+        self.identification_pane.show_prepared(self.series, spec)
+        self._ensure_fitted(spec, draw=True)
+        self._draw_current()
+
+    def _draw_current(self) -> None:
+        spec = self.current_spec
+        label = spec.description
+        if spec in self.failures:
+            message = f"{label}: the fit failed — {self.failures[spec]}"
+            for pane in self.residual_panes:
+                pane.clear(message)
+            self.tests_panel.show_failure(label, self.failures[spec])
+            self.drawn = (spec, "failed")
+            return
+        ev = self.evaluations.get(spec)
+        if ev is None:
+            for pane in self.residual_panes:
+                pane.clear(f"{label}: fitting…")
+            self.tests_panel.show_pending(label)
+            self.drawn = None
+            return
+        kind = ev.fit.kind
+        if self.drawn == (spec, kind):
+            return
+        if not ev.fit.ok:
+            for pane in self.residual_panes:
+                pane.clear(f"{label}: {ev.fit.failure}")
+            self.tests_panel.show_failure(label, ev.fit.failure)
+        else:
+            for pane in self.residual_panes:
+                pane.show_evaluation(ev, self.series)
+            self.tests_panel.show_evaluation(ev, self._step_test_for(spec, ev))
+        self.drawn = (spec, kind)
+
+    def _step_test_for(self, spec: ModelSpec, ev: Evaluation):
+        if ev.is_preview:
+            return None
+        candidate = self.lineage.get(self.current_id)
+        if candidate.parent_id is None:
+            return None
+        parent_ev = self.evaluations.get(self.lineage.get(candidate.parent_id).spec)
+        if parent_ev is None or parent_ev.is_preview:
+            return None
+        return nested_test(parent_ev.fit, ev.fit)
+
+    def _preview_preparation(self, spec_or_error) -> None:
+        if self.series is None:
+            return
+        if isinstance(spec_or_error, Exception):
+            self.identification_pane.clear(str(spec_or_error))
+        else:
+            self.identification_pane.show_prepared(self.series, spec_or_error)
+            self.tabs.setCurrentWidget(self.identification_pane)
+
+    def _estimate_lambda(self) -> None:
+        if self.series is None:
+            return
+        try:
+            self.prepare_bar.set_lambda(estimate_boxcox_lambda(self.series))
+        except LagwrightError as exc:
+            self.notify(str(exc))
+
+    def _selection_changed(self, positions) -> None:
+        if self.series is None or not positions:
+            return
+        labels = self.series.time_labels()
+        shown = []
+        for pos in list(positions)[:5]:
+            if 0 <= pos < len(self.series):
+                value = self.series.values[pos]
+                shown.append(f"{labels[pos]}: {value:.6g}")
+        if shown:
+            more = f" (+{len(positions) - 5} more)" if len(positions) > 5 else ""
+            self.statusBar().showMessage("Selected " + "; ".join(shown) + more, 20000)
+
+    # ============================================================ sessions
+    def current_session(self) -> Session:
+        results = {}
+        for c in self.lineage.candidates:
+            fit = self.exact_fit(c.spec)
+            if fit is not None:
+                results[c.id] = {"loglik": fit.loglik, "aic": fit.aic, "aicc": fit.aicc, "bic": fit.bic,
+                                 "sigma2": fit.sigma2, "converged": fit.convergence.converged}
+        return Session(self.data_ref, self.lineage, self.current_id, results=results)
+
+    def save(self) -> bool:
+        if self.history is None:
+            return False
+        if self.session_path is None:
+            return self.save_as()
+        return self.save_to(self.session_path)
+
+    def save_as(self) -> bool:
+        if self.history is None:
+            return False
+        path, _ = QFileDialog.getSaveFileName(self, "Save session", str(Path.home() / f"{self.series.name}{SUFFIX}"),
+                                              f"Lagwright sessions (*{SUFFIX})")
+        return bool(path) and self.save_to(Path(path))
+
+    def save_to(self, path: Path) -> bool:
+        path = Path(path)
+        if not path.name.endswith(SUFFIX):
+            path = path.with_name(path.name + SUFFIX)
+        try:
+            write_session(self.current_session(), path)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return False
+        self.session_path = path
+        self.statusBar().showMessage(f"Saved {path}", 8000)
+        return True
+
+    def open_dialog(self) -> None:
+        path, _ = QFileDialog.getOpenFileName(
+            self, "Open session or data", str(Path.home()),
+            f"Sessions and data (*{SUFFIX} *.csv *.tsv *.txt *.xlsx);;All files (*)")
+        if path:
+            self.open_path(path)
+
+    def open_path(self, path: str | Path) -> bool:
+        """Open a session file or a data file, by its name."""
+        if str(path).endswith(SUFFIX):
+            return self.open_session(path)
+        return self.open_data(path)
+
+    def open_session(self, path: str | Path) -> bool:
+        """Open a session; on any problem, say so and keep the current work."""
+        try:
+            session = read_session(path)
+            if not session.lineage.candidates:
+                raise LagwrightError(f"The session '{Path(path).name}' holds no candidates.")
+            ref = session.data
+            if ref.sample:
+                series = samples.load_sample(ref.sample)
+            else:
+                data_path = Path(ref.path)
+                if not data_path.is_absolute():
+                    data_path = Path(path).resolve().parent / data_path
+                series = load_series(data_path, value=ref.value_column or None, time=ref.time_column or None,
+                                     sheet=int(ref.sheet) if ref.sheet and str(ref.sheet).isdigit() else ref.sheet)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return False
+        ok = self._start_series(series, ref, session.lineage, session.current)
+        if ok:
+            if str(path) != str(self.recovery_path):
+                self.session_path = Path(path)
+            if ref.sha256 and series.provenance.sha256 and ref.sha256 != series.provenance.sha256:
+                self.notify(f"The data file '{series.provenance.source}' has changed since the session was saved "
+                            "(its SHA-256 differs): the numbers will not match the saved ones.")
+        return ok
+
+    def _autosave(self) -> None:
+        if self.history is None:
+            return
+        try:
+            self.recovery_path.parent.mkdir(parents=True, exist_ok=True)
+            write_session(self.current_session(), self.recovery_path)
+        except (LagwrightError, OSError) as exc:
+            self.statusBar().showMessage(f"Autosave failed: {exc}", 8000)
+
+    def offer_restore(self) -> bool:
+        """If a recovery file exists, offer to restore it; returns whether it was restored."""
+        if not self.recovery_path.exists():
+            return False
+        answer = QMessageBox.question(
+            self, "Restore previous work?",
+            "Lagwright did not close normally last time. Restore the work it saved automatically?",
+            QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No, QMessageBox.StandardButton.Yes)
+        if answer == QMessageBox.StandardButton.Yes:
+            return self.open_session(self.recovery_path)
+        return False
+
+    def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
+        self._autosave_timer.stop()
+        self.service.shutdown(wait=False)
+        try:
+            self.recovery_path.unlink(missing_ok=True)
+        except OSError:
+            pass
+        super().closeEvent(event)
+
+
+def run_window(path: str | None = None) -> int:
+    """Open the window (on ``path``, or the default sample) and run the event loop."""
+    QApplication.setHighDpiScaleFactorRoundingPolicy(Qt.HighDpiScaleFactorRoundingPolicy.PassThrough)
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    app.setApplicationName("Lagwright")
+    app.setOrganizationName("Lagwright")
+    window = MainWindow()
+    window.show()
+    restored = window.offer_restore()
+    if not restored:
+        if path is None:
+            window.open_sample(samples.DEFAULT_SAMPLE_NAME)
+        elif not window.open_path(path):
+            window.open_sample(samples.DEFAULT_SAMPLE_NAME)
+    return app.exec()
+
