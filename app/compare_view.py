@@ -15,12 +15,14 @@ import re
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import QSize, Qt, Signal
 from PySide6.QtGui import QBrush, QColor
 from PySide6.QtWidgets import (
     QComboBox,
+    QFrame,
     QHBoxLayout,
     QLabel,
+    QScrollArea,
     QSizePolicy,
     QVBoxLayout,
     QWidget,
@@ -30,7 +32,7 @@ from lagwright.core.compare import comparability, criteria_difference, nested_te
 
 from . import theme
 from .explain import TOOLTIPS, format_count, format_number, format_p, format_signed
-from .tests_panel import Cell, SectionTable, banner_style, section_header
+from .tests_panel import Cell, ReflowRow, SectionTable, banner_style, section_header, titled
 
 COL_QUANTITY, COL_A, COL_B, COL_DIFF = range(4)
 _PARAM_ORDER = (
@@ -67,6 +69,13 @@ def _estimate_text(fit, name: str) -> tuple[str, bool]:
     return f"{format_number(est.value)} ({format_number(est.se)})", est.weak
 
 
+class _PlotArea(QWidget):
+    """Holds the plots; asks for a modest size so the plots share whatever room is left."""
+
+    def sizeHint(self) -> QSize:  # noqa: N802 (Qt override)
+        return QSize(600, 300)
+
+
 class CompareView(QWidget):
     """Two candidates side by side.
 
@@ -87,7 +96,10 @@ class CompareView(QWidget):
         The nested test's verdict, or why no test applies.
     test_table : SectionTable
         F and likelihood-ratio rows when a nested test applies.
-    acf_plot, trace_plot : pyqtgraph.PlotWidget
+    acf_plot : pyqtgraph.PlotWidget
+        Both residual ACFs as grouped bars with their ±2/√n bands.
+    trace_plots : dict of str to pyqtgraph.PlotWidget
+        Standardized residuals of ``"A"`` (top) and ``"B"`` (below), axes linked.
     """
 
     pair_changed = Signal(str, str)
@@ -130,48 +142,67 @@ class CompareView(QWidget):
 
         self.test_header = section_header("Nested test")
         self.test_header.setToolTip(TOOLTIPS["nested"])
+        self.test_header.setWordWrap(True)
         self.test_label = QLabel()
         self.test_label.setWordWrap(True)
         self.test_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         self.test_label.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
         self.test_table = SectionTable(["Test", "Statistic", "df", "p"])
 
-        numbers = QVBoxLayout()
-        numbers.setContentsMargins(0, 0, 0, 0)
-        numbers.addWidget(section_header("Side by side"))
-        numbers.addWidget(self.table)
-        numbers.addStretch(1)
-        tests = QVBoxLayout()
+        self.tests_box = QWidget()
+        tests = QVBoxLayout(self.tests_box)
         tests.setContentsMargins(0, 0, 0, 0)
         tests.addWidget(self.test_header)
         tests.addWidget(self.test_label)
         tests.addWidget(self.test_table, 0, Qt.AlignmentFlag.AlignLeft)
         tests.addStretch(1)
-        self.numbers = QWidget()
-        middle = QHBoxLayout(self.numbers)
-        middle.setContentsMargins(0, 0, 0, 0)
-        middle.setSpacing(16)
-        middle.addLayout(numbers, 0)
-        middle.addLayout(tests, 1)
+        self.tests_box.setMinimumWidth(240)
+        self.tests_box.setMaximumWidth(420)
+        self.numbers = ReflowRow()
+        self.numbers.add(titled("Side by side", self.table), keep_width=True)
+        self.numbers.add(self.tests_box)
 
         colours = theme.pane_colours(theme.is_dark_palette(self.palette()))
         self.acf_plot = self._make_plot("Residual ACF", "lag", "autocorrelation", colours)
         self.acf_plot.setToolTip(TOOLTIPS["acf"])
-        self.trace_plot = self._make_plot("Standardized residuals", "observation", "z", colours)
-        self.trace_plot.setToolTip(TOOLTIPS["std_residuals"])
-        self.plots = QWidget()
+        self.trace_plots = {
+            side: self._make_plot("Standardized residuals", "observation", "z", colours, legend=False)
+            for side in ("A", "B")
+        }
+        self.trace_plots["B"].setXLink(self.trace_plots["A"])
+        self.trace_plots["A"].getAxis("bottom").showLabel(False)  # B's axis below names it
+        self.trace_plots["B"].setYLink(self.trace_plots["A"])
+        traces = QVBoxLayout()
+        traces.setContentsMargins(0, 0, 0, 0)
+        traces.setSpacing(2)
+        for plot in self.trace_plots.values():
+            plot.setToolTip(TOOLTIPS["std_residuals"])
+            plot.setMinimumHeight(90)
+            traces.addWidget(plot)
+        self.plots = _PlotArea()
         plots = QHBoxLayout(self.plots)
         plots.setContentsMargins(0, 0, 0, 0)
         plots.addWidget(self.acf_plot)
-        plots.addWidget(self.trace_plot)
+        plots.addLayout(traces)
+
+        content = QWidget()
+        body = QVBoxLayout(content)
+        body.setContentsMargins(0, 0, 0, 0)
+        body.setSpacing(6)
+        body.addWidget(self.status_label)
+        body.addWidget(self.numbers)
+        body.addWidget(self.plots, 1)
+        body.addStretch(0)  # takes the room when nothing is compared
+        scroll = QScrollArea()
+        scroll.setWidgetResizable(True)
+        scroll.setFrameShape(QFrame.Shape.NoFrame)
+        scroll.setWidget(content)
 
         layout = QVBoxLayout(self)
         layout.setContentsMargins(8, 8, 8, 8)
         layout.setSpacing(6)
         layout.addLayout(picker)
-        layout.addWidget(self.status_label)
-        layout.addWidget(self.numbers)
-        layout.addWidget(self.plots, 1)
+        layout.addWidget(scroll, 1)
         self._show_nothing("Pick two candidates to compare.")
 
     # ---------------------------------------------------------- public API
@@ -215,6 +246,20 @@ class CompareView(QWidget):
         """Whether the pair shown models the same prepared data (differences shown)."""
         return self._comparable
 
+    def summary_text(self) -> str:
+        """What the view shows, as plain text (tab-separated table rows), e.g. for the clipboard."""
+        lines = [self.status_label.text()]
+        if self.table.rowCount():
+            columns = [c for c in range(self.table.columnCount()) if not self.table.isColumnHidden(c)]
+            lines.append("\t".join(self.table.horizontalHeaderItem(c).text() for c in columns))
+            for row in range(self.table.rowCount()):
+                lines.append("\t".join(self.table.text(row, c) for c in columns))
+            lines.append(self.test_header.text())
+            for row in range(self.test_table.rowCount()):
+                lines.append("\t".join(self.test_table.text(row, c) for c in range(self.test_table.columnCount())))
+            lines.append(self.test_label.text())
+        return "\n".join(line for line in lines if line)
+
     def cell_text(self, key: str, column: int) -> str:
         """Text of the table row ``key`` (a parameter name or a quantity key) in ``column``."""
         return self.table.text(self.table.row_of(key), column)
@@ -236,7 +281,7 @@ class CompareView(QWidget):
         index = combo.findData(candidate_id)
         combo.setCurrentIndex(index)
 
-    def _make_plot(self, title: str, xlabel: str, ylabel: str, colours) -> pg.PlotWidget:
+    def _make_plot(self, title: str, xlabel: str, ylabel: str, colours, legend: bool = True) -> pg.PlotWidget:
         plot = pg.PlotWidget(background=colours.background)
         plot.setTitle(title, color=colours.foreground, size="10pt")
         for side, text in (("bottom", xlabel), ("left", ylabel)):
@@ -248,8 +293,9 @@ class CompareView(QWidget):
         plot.setMenuEnabled(False)
         plot.setMinimumHeight(180)
         plot.setSizePolicy(QSizePolicy.Policy.Expanding, QSizePolicy.Policy.Expanding)
-        legend = plot.addLegend(offset=(-8, 8), labelTextColor=colours.foreground)
-        legend.setBrush(pg.mkBrush(colours.background))
+        if legend:
+            box = plot.addLegend(offset=(-8, 8), labelTextColor=colours.foreground)
+            box.setBrush(pg.mkBrush(colours.background))
         return plot
 
     def _on_combo_changed(self, _index: int) -> None:
@@ -268,10 +314,13 @@ class CompareView(QWidget):
         self.test_label.clear()
         self.test_table.clear_rows()
         self.numbers.hide()
+        self.plots.hide()
         self._clear_plots()
 
     def _clear_plots(self) -> None:
-        for plot in (self.acf_plot, self.trace_plot):
+        for side, trace in self.trace_plots.items():
+            trace.setTitle(f"Standardized residuals, {side}")
+        for plot in (self.acf_plot, *self.trace_plots.values()):
             plot.clear()
             if plot.plotItem.legend is not None:
                 plot.plotItem.legend.clear()
@@ -316,10 +365,13 @@ class CompareView(QWidget):
         reason = comparability(fa.spec, fb.spec)
         self._comparable = not reason
         self.numbers.show()
+        self.plots.show()
         header_a = self.table.horizontalHeaderItem(COL_A)
         header_b = self.table.horizontalHeaderItem(COL_B)
-        header_a.setText(f"A · {a_id} {fa.spec.description}")
-        header_b.setText(f"B · {b_id} {fb.spec.description}")
+        header_a.setText(f"A · {a_id}")
+        header_a.setToolTip(fa.spec.description)
+        header_b.setText(f"B · {b_id}")
+        header_b.setToolTip(fb.spec.description)
         if reason:
             self.status_label.setText("Not comparable. " + reason)
             self.status_label.setStyleSheet(banner_style(theme.DOUBT))
@@ -331,6 +383,7 @@ class CompareView(QWidget):
             self.status_label.setStyleSheet("")
         self._fill_table(fa, fb, ev_a, ev_b)
         self._fill_test(fa, fb, reason)
+        self.numbers.reflow()
         self._draw(a_id, b_id, ev_a, ev_b)
 
     def _fill_table(self, fa, fb, ev_a, ev_b) -> None:
@@ -375,8 +428,10 @@ class CompareView(QWidget):
             else:
                 label = ev.diagnostics.white_noise_verdict.label
                 main = ev.diagnostics.main_ljung_box
-                extra = f" (LB p {format_p(main.p)})" if main is not None else ""
-                verdict_cells.append(Cell(label + extra, TOOLTIPS["white_noise"], colour=theme.VERDICT_COLOURS[label]))
+                tip = TOOLTIPS["white_noise"]
+                if main is not None:
+                    tip += f"\nMain Ljung-Box: Q({main.lag}) = {format_number(main.stat)}, p = {format_p(main.p)}."
+                verdict_cells.append(Cell(label, tip, numeric=True, colour=theme.VERDICT_COLOURS[label]))
         rows.append(("verdict", [Cell("Residuals", TOOLTIPS["white_noise"]), *verdict_cells, Cell("")]))
         self.table.fill(rows)
         self.table.setColumnHidden(COL_DIFF, not self._comparable)
@@ -430,19 +485,20 @@ class CompareView(QWidget):
                 self.band_lines[side] = lines
             positions = ev.fit.diagnostic_positions()
             _, std = ev.fit.diagnostic_residuals()
-            pen_colour = QColor(colour)
-            pen_colour.setAlpha(200)  # let the other trace show through where they overlap
-            curve = self.trace_plot.plot(
+            trace = self.trace_plots[side]
+            trace.setTitle(f"Standardized residuals, {side}: {cid}", color=colour, size="9pt")
+            curve = trace.plot(
                 np.asarray(positions, dtype=float), np.asarray(std, dtype=float),
-                pen=pg.mkPen(pen_colour, width=1), name=f"{side}: {cid}",
+                pen=pg.mkPen(colour, width=1), name=f"{side}: {cid}",
             )
             self.trace_items[side] = curve
+            trace.addItem(pg.InfiniteLine(pos=0.0, angle=0, pen=pg.mkPen(theme.REFERENCE)))
         self.acf_plot.addItem(pg.InfiniteLine(pos=0.0, angle=0, pen=pg.mkPen(theme.REFERENCE)))
-        self.trace_plot.addItem(pg.InfiniteLine(pos=0.0, angle=0, pen=pg.mkPen(theme.REFERENCE)))
         if self.acf_items:
             heights = [float(np.nanmax(np.abs(item.opts["height"]))) for item in self.acf_items.values()]
             bands = [lines[0].value() for lines in self.band_lines.values()]
             limit = max(heights + bands)
             self.acf_plot.setYRange(-1.1 * limit, 1.1 * limit, padding=0)
             self.acf_plot.enableAutoRange(axis="x")
-        self.trace_plot.enableAutoRange()
+        for trace in self.trace_plots.values():
+            trace.enableAutoRange()

@@ -1,9 +1,11 @@
 """Fitting off the GUI thread.
 
 A :class:`FitRequest` is a frozen, picklable value carrying its id; the
-response carries the id back. Previews (milliseconds) run on a thread; exact
-fits run in a worker process kept alive for the session, so a long Kalman
-filter pass can never hold the window's interpreter lock. Each worker process
+response carries the id back. Previews and exact fits each run in a worker
+process kept alive for the session (one core each on a 2-core machine), so
+neither a long Kalman filter pass nor the preview's optimiser ever competes
+with the window for its interpreter lock: with previews on a thread, the
+window stalled for about 50 ms per preview (bench/bench_window.py). Each worker process
 limits BLAS/OpenMP to one thread: oversubscription slowed fits 3-90x under
 load in measurements on 2-core machines.
 
@@ -80,6 +82,10 @@ def _warm() -> bool:
     return True
 
 
+def _process_pool() -> ProcessPoolExecutor:
+    return ProcessPoolExecutor(max_workers=1, mp_context=multiprocessing.get_context("spawn"), initializer=_init_worker)
+
+
 class FitService(QObject):
     """Runs fit requests in the background and emits ``fit_finished`` with a :class:`FitResponse`.
 
@@ -97,18 +103,20 @@ class FitService(QObject):
         self._ids = itertools.count(1)
         self._lock = threading.Lock()
         self._pending: set[int] = set()
-        self._threads = ThreadPoolExecutor(max_workers=1, thread_name_prefix="lagwright-preview")
+        self._threads: ThreadPoolExecutor | None = None
+        self._preview_processes: ProcessPoolExecutor | None = None
         self._processes: ProcessPoolExecutor | None = None
         self._exact_threads: ThreadPoolExecutor | None = None
         if use_processes:
             try:
-                self._processes = ProcessPoolExecutor(
-                    max_workers=1, mp_context=multiprocessing.get_context("spawn"), initializer=_init_worker
-                )
+                self._processes = _process_pool()
+                self._preview_processes = _process_pool()
                 self._processes.submit(_warm)
+                self._preview_processes.submit(_warm)
             except (OSError, ValueError):
-                self._processes = None
+                self._processes = self._preview_processes = None
         if self._processes is None:
+            self._threads = ThreadPoolExecutor(max_workers=1, thread_name_prefix="lagwright-preview")
             self._exact_threads = ThreadPoolExecutor(max_workers=1, thread_name_prefix="lagwright-exact")
 
     @property
@@ -121,7 +129,7 @@ class FitService(QObject):
         with self._lock:
             self._pending.add(request.request_id)
         if kind == "preview":
-            executor = self._threads
+            executor = self._preview_processes or self._threads
         else:
             executor = self._processes or self._exact_threads
         try:
@@ -138,18 +146,19 @@ class FitService(QObject):
         except Exception as exc:  # noqa: BLE001 - e.g. the worker process crashed
             response = FitResponse(request.request_id, request.spec, request.kind, None,
                                    f"The fitting worker stopped unexpectedly ({type(exc).__name__}); try again.")
-            if isinstance(exc, Exception) and self._processes is not None and "BrokenProcessPool" in type(exc).__name__:
-                self._restart_processes()
+            if "BrokenProcessPool" in type(exc).__name__:
+                self._restart_processes(request.kind)
         self._deliver(response)
 
-    def _restart_processes(self) -> None:
+    def _restart_processes(self, kind: str) -> None:
+        """Replace a worker process that died (the request that killed it was reported as failed)."""
         try:
-            self._processes = ProcessPoolExecutor(
-                max_workers=1, mp_context=multiprocessing.get_context("spawn"), initializer=_init_worker
-            )
+            if kind == "preview":
+                self._preview_processes = _process_pool()
+            else:
+                self._processes = _process_pool()
         except (OSError, ValueError):
-            self._processes = None
-            self._exact_threads = ThreadPoolExecutor(max_workers=1, thread_name_prefix="lagwright-exact")
+            pass
 
     def _deliver(self, response: FitResponse) -> None:
         with self._lock:
@@ -166,8 +175,6 @@ class FitService(QObject):
 
     def shutdown(self, wait: bool = True) -> None:
         """Stop the workers (waiting for running fits when ``wait``)."""
-        self._threads.shutdown(wait=wait, cancel_futures=True)
-        if self._exact_threads is not None:
-            self._exact_threads.shutdown(wait=wait, cancel_futures=True)
-        if self._processes is not None:
-            self._processes.shutdown(wait=wait, cancel_futures=True)
+        for executor in (self._threads, self._exact_threads, self._preview_processes, self._processes):
+            if executor is not None:
+                executor.shutdown(wait=wait, cancel_futures=True)

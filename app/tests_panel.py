@@ -22,7 +22,7 @@ from PySide6.QtGui import QBrush, QColor, QFont
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QFrame,
-    QHBoxLayout,
+    QBoxLayout,
     QHeaderView,
     QLabel,
     QListWidget,
@@ -46,6 +46,9 @@ KEY_ROLE = Qt.ItemDataRole.UserRole + 1
 
 PREVIEW_MARK = "preview — exact fit running"
 
+#: Narrowest a section table gets before it scrolls sideways.
+MIN_TABLE_WIDTH = 220
+
 
 # ------------------------------------------------------------------ tables
 @dataclass(frozen=True)
@@ -60,7 +63,12 @@ class Cell:
 
 
 class SectionTable(QTableWidget):
-    """A compact read-only table that is always as tall as its rows (no inner scrolling)."""
+    """A compact read-only table, always as tall as its rows.
+
+    It asks for the width of its contents but may be squeezed down to
+    :data:`MIN_TABLE_WIDTH`; then it scrolls sideways and grows by the
+    height of its scroll bar, so no row is ever hidden.
+    """
 
     def __init__(self, headers: list[str], parent: QWidget | None = None):
         super().__init__(0, len(headers), parent)
@@ -79,11 +87,9 @@ class SectionTable(QTableWidget):
         header.setStretchLastSection(False)
         header.setMinimumSectionSize(24)
         header.setDefaultAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
-        # The table is always exactly as large as its contents; an enclosing
-        # scroll area scrolls when the window is smaller.
         self.setVerticalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
-        self.setSizePolicy(QSizePolicy.Policy.Fixed, QSizePolicy.Policy.Fixed)
+        self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
+        self.setSizePolicy(QSizePolicy.Policy.Maximum, QSizePolicy.Policy.Fixed)
         self._keys: list[str] = []
 
     # ---------------------------------------------------------- contents
@@ -132,20 +138,76 @@ class SectionTable(QTableWidget):
     # ------------------------------------------------------------ sizing
     def _content_size(self) -> QSize:
         header = self.horizontalHeader()
-        width = sum(
-            max(self.columnWidth(c), header.sectionSizeHint(c))
-            for c in range(self.columnCount())
-            if not self.isColumnHidden(c)
-        )
+        width = sum(self.columnWidth(c) for c in range(self.columnCount()) if not self.isColumnHidden(c))
         rows = sum(self.rowHeight(r) for r in range(self.rowCount()))
         frame = 2 * self.frameWidth()
         return QSize(width + frame, rows + header.sizeHint().height() + frame)
 
+    def _height(self, content: QSize) -> int:
+        squeezed = self.isVisible() and self.width() < content.width()
+        extra = self.horizontalScrollBar().sizeHint().height() if squeezed else 0
+        return content.height() + extra
+
     def sizeHint(self) -> QSize:  # noqa: N802 (Qt override)
-        return self._content_size()
+        content = self._content_size()
+        return QSize(content.width(), self._height(content))
 
     def minimumSizeHint(self) -> QSize:  # noqa: N802 (Qt override)
-        return self._content_size()
+        content = self._content_size()
+        return QSize(min(content.width(), MIN_TABLE_WIDTH), self._height(content))
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt override)
+        super().resizeEvent(event)
+        if event.size().height() != self.sizeHint().height():
+            self.updateGeometry()  # make room for the sideways scroll bar, or give it back
+
+
+class ReflowRow(QWidget):
+    """Widgets side by side when the row is wide enough for all of them, else one under another."""
+
+    def __init__(self, spacing: int = 16, parent: QWidget | None = None):
+        super().__init__(parent)
+        self._box = QBoxLayout(QBoxLayout.Direction.LeftToRight, self)
+        self._box.setContentsMargins(0, 0, 0, 0)
+        self._box.setSpacing(spacing)
+        self._box.addStretch(1)
+        self._widgets: list[QWidget] = []
+
+    def add(self, widget: QWidget, keep_width: bool = False) -> None:
+        """Add a widget; with ``keep_width`` it is never made narrower than it asks to be."""
+        if keep_width:
+            widget.setSizePolicy(QSizePolicy.Policy.Minimum, widget.sizePolicy().verticalPolicy())
+        self._box.insertWidget(len(self._widgets), widget, 0, Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        self._widgets.append(widget)
+
+    def is_stacked(self) -> bool:
+        return self._box.direction() == QBoxLayout.Direction.TopToBottom
+
+    def reflow(self, width: int | None = None) -> None:
+        """Choose side by side or stacked for ``width`` (default: the current width)."""
+        width = self.width() if width is None else width
+        shown = [w for w in self._widgets if not w.isHidden()]
+        need = sum(w.minimumWidth() or w.sizeHint().width() for w in shown)  # a set minimum is enough
+        need += self._box.spacing() * max(len(shown) - 1, 0)
+        direction = QBoxLayout.Direction.LeftToRight if need <= width else QBoxLayout.Direction.TopToBottom
+        if self._box.direction() != direction:
+            self._box.setDirection(direction)
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt override)
+        super().resizeEvent(event)
+        self.reflow(event.size().width())
+
+
+def titled(title: str, *widgets: QWidget) -> QWidget:
+    """A bold title over ``widgets``, as one widget."""
+    box = QWidget()
+    layout = QVBoxLayout(box)
+    layout.setContentsMargins(0, 0, 0, 0)
+    layout.addWidget(section_header(title))
+    for widget in widgets:
+        layout.addWidget(widget, 0, Qt.AlignmentFlag.AlignLeft)
+    layout.addStretch(1)
+    return box
 
 
 def section_header(text: str) -> QLabel:
@@ -272,17 +334,14 @@ class TestsPanel(QWidget):
         step_layout.addWidget(self.step_table, 0, Qt.AlignmentFlag.AlignLeft)
 
         # layout: parameters | fit summary, then the checks, warnings and step test
-        top = QHBoxLayout()
-        top.setContentsMargins(0, 0, 0, 0)
-        top.setSpacing(16)
-        for title, table in (("Parameters", self.params_table), ("Fit summary", self.summary_table)):
-            column = QVBoxLayout()
-            column.setContentsMargins(0, 0, 0, 0)
-            column.addWidget(section_header(title))
-            column.addWidget(table)
-            column.addStretch(1)
-            top.addLayout(column)
-        top.addStretch(1)
+        self.numbers_section = ReflowRow()
+        self.numbers_section.add(titled("Parameters", self.params_table))
+        self.numbers_section.add(titled("Fit summary", self.summary_table))
+        self.checks_section = QWidget()
+        checks_layout = QVBoxLayout(self.checks_section)
+        checks_layout.setContentsMargins(0, 0, 0, 0)
+        checks_layout.addWidget(section_header("Residual checks"))
+        checks_layout.addWidget(self.checks_table, 0, Qt.AlignmentFlag.AlignLeft)
 
         self.warnings_section = QWidget()
         warnings_layout = QVBoxLayout(self.warnings_section)
@@ -297,9 +356,8 @@ class TestsPanel(QWidget):
         body.addWidget(self.title_label)
         body.addWidget(self.status_label)
         body.addWidget(self.verdict_label)
-        body.addLayout(top)
-        body.addWidget(section_header("Residual checks"))
-        body.addWidget(self.checks_table, 0, Qt.AlignmentFlag.AlignLeft)
+        body.addWidget(self.numbers_section)
+        body.addWidget(self.checks_section)
         body.addWidget(self.warnings_section)
         body.addWidget(self.step_section)
         body.addStretch(1)
@@ -368,9 +426,12 @@ class TestsPanel(QWidget):
             self.title_label.setText(f"{label}  (exact fit)")
         self._show_params(fit)
         self._show_summary(fit)
+        self.numbers_section.show()
+        self.numbers_section.reflow()
         self._show_verdict(evaluation)
         if evaluation.diagnostics is not None:
             self._show_checks(evaluation.diagnostics)
+            self.checks_section.show()
         self._show_warnings(evaluation)
         if not fit.is_preview:
             self._show_step(step_test if step_test is not None else evaluation.step_test)
@@ -387,6 +448,8 @@ class TestsPanel(QWidget):
         self.verdict_label.hide()
         for table in self.tables.values():
             table.clear_rows()
+        self.numbers_section.hide()
+        self.checks_section.hide()
         self.warnings_list.clear()
         self.warnings_section.hide()
         self.step_label.clear()
@@ -452,8 +515,7 @@ class TestsPanel(QWidget):
                 f"start: {conv.start}" if conv.start else "",
             ) if part
         )
-        status = "converged" if conv.converged else f"not converged ({conv.message})"
-        conv_text = f"{status}; {details}" if details else status
+        status = "converged" if conv.converged else "not converged"
         conv_tip = TOOLTIPS["convergence"]
         if conv.attempts:
             conv_tip += "\n\nAttempts:\n" + "\n".join(conv.attempts)
@@ -470,7 +532,9 @@ class TestsPanel(QWidget):
             ("cov_type", [Cell("Covariance", TOOLTIPS["cov_type"]),
                           Cell(cov_short, f"{TOOLTIPS['cov_type']}\n{fit.cov_type}")]),
             ("convergence", [Cell("Convergence", conv_tip),
-                             Cell(conv_text, conv_tip, colour=None if conv.converged else theme.ATTENTION)]),
+                             Cell(status, conv_tip + ("" if conv.converged else f"\n\n{conv.message}"),
+                                  colour=None if conv.converged else theme.ATTENTION)]),
+            ("optimizer", [Cell("Optimizer", conv_tip), Cell(details or "—", conv_tip)]),
         ]
         self.summary_table.fill(rows)
 

@@ -11,9 +11,10 @@ view; anything else is cached for later and never drawn over newer work.
 from __future__ import annotations
 
 import sys
+import time
 from pathlib import Path
 
-from PySide6.QtCore import QStandardPaths, Qt, QTimer
+from PySide6.QtCore import QStandardPaths, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
     QApplication,
@@ -78,6 +79,12 @@ def _season_guess(frequency: str | None) -> int:
 class MainWindow(QMainWindow):
     """Lagwright's main window.
 
+    Signals
+    -------
+    candidate_drawn(str)
+        The candidate in view has been drawn completely ("preview",
+        "exact" or "failed").
+
     Parameters
     ----------
     use_processes : bool
@@ -88,6 +95,8 @@ class MainWindow(QMainWindow):
     ask_restore : bool
         Offer to restore a recovery file found at start.
     """
+
+    candidate_drawn = Signal(str)
 
     def __init__(self, use_processes: bool = True, recovery_path: Path | None = None, ask_restore: bool = True):
         super().__init__()
@@ -103,6 +112,14 @@ class MainWindow(QMainWindow):
         self.failures: dict[ModelSpec, str] = {}
         self.latest: dict[tuple[ModelSpec, str], int] = {}
         self.drawn: tuple[ModelSpec, str] | None = None
+        self._drawing: tuple[ModelSpec, str] | None = None
+        self._jobs: list = []
+        self._stale_panes: set = set()
+        self._pane_job = None
+        self._draw_timer = QTimer(self)
+        self._draw_timer.setSingleShot(True)
+        self._draw_timer.setInterval(0)
+        self._draw_timer.timeout.connect(self._draw_next)
         self._updating_note = False
         if recovery_path is None:
             folder = Path(QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation) or Path.home())
@@ -153,7 +170,7 @@ class MainWindow(QMainWindow):
         self.residual_panes = (self.trace_pane, self.histogram_pane, self.quantile_pane, self.correlation_pane,
                                self.periodogram_pane, self.root_pane)
         # Zooming the time axis of the trace keeps the prepared series in step.
-        self.identification_pane.time_view_box().setXLink(self.trace_pane.time_view_box())
+        self.identification_pane.time_axis_view_box().setXLink(self.trace_pane.time_axis_view_box())
 
         grid_page = QWidget()
         grid = QGridLayout(grid_page)
@@ -210,6 +227,7 @@ class MainWindow(QMainWindow):
         self.note_edit.textChanged.connect(self._note_edited)
         self.compare_view.pair_changed.connect(lambda a, b: self.compare_view.compare(a, b))
         self.selection.selection_changed.connect(self._selection_changed)
+        self.tabs.currentChanged.connect(self._tab_changed)
 
     def _build_actions(self) -> None:
         menu = self.menuBar().addMenu("&File")
@@ -289,6 +307,7 @@ class MainWindow(QMainWindow):
         self.failures.clear()
         self.latest.clear()
         self.drawn = None
+        self._drawing = None
         self.selection.clear()
         if lineage is None:
             season = _season_guess(series.frequency)
@@ -534,34 +553,69 @@ class MainWindow(QMainWindow):
         self._draw_current()
 
     def _draw_current(self) -> None:
+        """Draw the candidate in view: its failure, a 'fitting' note, its preview or its exact fit.
+
+        Drawing is split into small jobs run one per event-loop turn, so the
+        window keeps answering while six panes and the tests panel redraw.
+        Panes on hidden tabs are drawn when their tab is shown. Each job
+        checks that the candidate it draws is still the one in view.
+        """
         spec = self.current_spec
         label = spec.description
         if spec in self.failures:
             message = f"{label}: the fit failed — {self.failures[spec]}"
-            for pane in self.residual_panes:
-                pane.clear(message)
-            self.tests_panel.show_failure(label, self.failures[spec])
-            self.drawn = (spec, "failed")
+            self._schedule((spec, "failed"), [lambda: self.tests_panel.show_failure(label, self.failures[spec])],
+                           lambda pane: pane.clear(message))
             return
         ev = self.evaluations.get(spec)
         if ev is None:
-            for pane in self.residual_panes:
-                pane.clear(f"{label}: fitting…")
-            self.tests_panel.show_pending(label)
-            self.drawn = None
+            self._schedule(None, [lambda: self.tests_panel.show_pending(label)],
+                           lambda pane: pane.clear(f"{label}: fitting…"))
             return
-        kind = ev.fit.kind
-        if self.drawn == (spec, kind):
+        token = (spec, ev.fit.kind)
+        if token in (self.drawn, self._drawing):
             return
         if not ev.fit.ok:
-            for pane in self.residual_panes:
-                pane.clear(f"{label}: {ev.fit.failure}")
-            self.tests_panel.show_failure(label, ev.fit.failure)
+            self._schedule(token, [lambda: self.tests_panel.show_failure(label, ev.fit.failure)],
+                           lambda pane: pane.clear(f"{label}: {ev.fit.failure}"))
+            return
+        step = self._step_test_for(spec, ev)
+        self._schedule(token, [lambda: self.tests_panel.show_evaluation(ev, step)],
+                       lambda pane: pane.show_evaluation(ev, self.series))
+
+    def _schedule(self, token, jobs: list, pane_job) -> None:
+        """Queue the drawing jobs for ``token``; panes not on screen are drawn when shown."""
+        self._drawing = token
+        self.drawn = None
+        self._pane_job = pane_job
+        visible = [pane for pane in self.residual_panes if pane.isVisibleTo(self) or not self.isVisible()]
+        self._stale_panes = {pane for pane in self.residual_panes if pane not in visible}
+        self._jobs = list(jobs) + [lambda p=pane: pane_job(p) for pane in visible]
+        self._draw_timer.start(0)
+
+    #: Drawing jobs run back to back until this many seconds have passed in one turn.
+    DRAW_BUDGET = 0.02
+
+    def _draw_next(self) -> None:
+        started = time.perf_counter()
+        while self._jobs:
+            self._jobs.pop(0)()
+            if time.perf_counter() - started > self.DRAW_BUDGET:
+                break
+        if self._jobs:
+            self._draw_timer.start(0)
         else:
-            for pane in self.residual_panes:
-                pane.show_evaluation(ev, self.series)
-            self.tests_panel.show_evaluation(ev, self._step_test_for(spec, ev))
-        self.drawn = (spec, kind)
+            self.drawn = self._drawing
+            self._drawing = None
+            if self.drawn is not None:
+                self.candidate_drawn.emit(self.drawn[1])
+
+    def _tab_changed(self, _index: int) -> None:
+        shown = [pane for pane in self._stale_panes if pane.isVisibleTo(self)]
+        for pane in shown:
+            self._stale_panes.discard(pane)
+            if self._pane_job is not None:
+                self._pane_job(pane)
 
     def _step_test_for(self, spec: ModelSpec, ev: Evaluation):
         if ev.is_preview:

@@ -61,6 +61,19 @@ def make_brush(code: str, alpha: float = 1.0):
     return pg.mkBrush(colour(code, alpha))
 
 
+#: Above this many points a data line is drawn 1 pixel wide and without
+#: antialiasing: Qt strokes wide antialiased lines through a slow path (about
+#: 2 s instead of 15 ms for a downsampled 10⁵-point trace), and even at 1,000
+#: points antialiased strokes kept the window from answering for ~0.5 s while
+#: all panes repainted (bench/bench_window.py).
+THIN_LINE_POINTS = 400
+
+
+def line_width(n_points: int, width: float = 1.5) -> float:
+    """Pen width for a data line of ``n_points``: ``width``, or 1 for long series (see THIN_LINE_POINTS)."""
+    return 1.0 if n_points > THIN_LINE_POINTS else width
+
+
 def add_fast_curve(
     plot: pg.PlotItem, x, y, pen, *, connect: str = "all", name: str | None = None, **kwargs
 ) -> pg.PlotDataItem:
@@ -70,11 +83,12 @@ def add_fast_curve(
     after the item is in the view: pyqtgraph 0.14 fails when an item with
     clipping enabled enters a scene that already has a view.
     """
+    x = np.asarray(x, dtype=float)
     item = pg.PlotDataItem(
-        np.asarray(x, dtype=float),
+        x,
         np.asarray(y, dtype=float),
         pen=pen,
-        antialias=True,
+        antialias=x.size <= THIN_LINE_POINTS,
         connect=connect,
         name=name,
         **kwargs,
@@ -263,7 +277,10 @@ class ResidualPane(QWidget):
         current = plot.getAxis("bottom")
         if dated == isinstance(current, pg.DateAxisItem):
             return
-        axis = pg.DateAxisItem(orientation="bottom", utcOffset=0) if dated else pg.AxisItem(orientation="bottom")
+        if dated:
+            axis = pg.DateAxisItem(orientation="bottom", utcOffset=0)
+        else:
+            axis = pg.AxisItem(orientation="bottom")
         plot.setAxisItems({"bottom": axis})
         self._axis_labels[(id(plot), "bottom")] = "time" if dated else "observation"
         self._style_plot(plot)

@@ -110,17 +110,18 @@ class CorrelationPane(ResidualPane):
         cg = diagnostics.correlogram
         self.correlogram = cg
         season = diagnostics.season
-        self._acf = draw_correlation_bars(self.acf_plot, cg.lags, cg.acf, cg.band, season, self.data_colour)
-        self._pacf = draw_correlation_bars(self.pacf_plot, cg.lags, cg.pacf, cg.band, season, self.data_colour)
+        colour = self.data_colour
+        self._acf = draw_correlation_bars(self.acf_plot, cg.lags, cg.acf, cg.band, season, colour)
+        self._pacf = draw_correlation_bars(self.pacf_plot, cg.lags, cg.pacf, cg.band, season, colour)
         self.acf_bars, self.pacf_bars = self._acf.bars, self._pacf.bars
         self.acf_band_lines, self.pacf_band_lines = self._acf.band_lines, self._pacf.band_lines
         self.season_marks = self._acf.season_marks + self._pacf.season_marks
         text = (
-            f"lags 1–{cg.nlags}; band ±2/√n = ±{cg.band:.3f}; outside: "
-            f"ACF {self._acf.outside.size}, PACF {self._pacf.outside.size}"
+            f"±2/√n = ±{cg.band:.3f}; outside: ACF {self._acf.outside.size}, "
+            f"PACF {self._pacf.outside.size} of {cg.nlags} lags"
         )
         if season >= 2:
-            text += f"; dotted: multiples of {season}"
+            text += f"; dotted: lags {season}, {2 * season}, …"
         self.set_status(text)
 
     def _remove_items(self) -> None:

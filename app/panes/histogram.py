@@ -29,7 +29,9 @@ from .base import PaneMessage, ResidualPane, indices_of, make_brush, make_pen
 MIN_BINS, MAX_BINS = 10, 60
 
 
-def freedman_diaconis_edges(values: np.ndarray, min_bins: int = MIN_BINS, max_bins: int = MAX_BINS) -> np.ndarray:
+def freedman_diaconis_edges(
+    values: np.ndarray, min_bins: int = MIN_BINS, max_bins: int = MAX_BINS
+) -> np.ndarray:
     """Equal-width bin edges over the range of ``values`` by the Freedman-Diaconis rule.
 
     The number of bins is ``ceil((max - min) / h)`` with
@@ -100,10 +102,12 @@ class ResidualHistogramPane(ResidualPane):
             grid, stats.norm.pdf(grid), pen=make_pen(theme.REFERENCE, width=2), antialias=True
         )
         self.selected_bars = pg.BarGraphItem(
-            x0=[], x1=[], height=[], pen=make_pen(theme.ATTENTION, width=1.5), brush=make_brush(theme.ATTENTION, 0.55)
+            x0=[], x1=[], height=[],
+            pen=make_pen(theme.ATTENTION, width=1.5), brush=make_brush(theme.ATTENTION, 0.55),
         )
         self.selected_ticks = pg.ScatterPlotItem(
-            x=[], y=[], symbol="t1", size=11, pen=make_pen(theme.ATTENTION, width=1), brush=make_brush(theme.ATTENTION)
+            x=[], y=[], symbol="t1", size=11,
+            pen=make_pen(theme.ATTENTION, width=1), brush=make_brush(theme.ATTENTION),
         )
         for item in (self.bars, self.selected_bars, self.normal_curve, self.selected_ticks):
             self.plot.addItem(item)

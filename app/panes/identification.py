@@ -22,7 +22,15 @@ from lagwright.core.errors import LagwrightError
 from lagwright.core.prepare import prepare
 
 from .. import theme
-from .base import ResidualPane, add_fast_curve, indices_of, make_pen, nearest_point, observation_x
+from .base import (
+    ResidualPane,
+    add_fast_curve,
+    indices_of,
+    line_width,
+    make_pen,
+    nearest_point,
+    observation_x,
+)
 from .correlation import draw_correlation_bars, restyle_bars
 
 
@@ -64,6 +72,9 @@ class IdentificationPane(ResidualPane):
         """The ViewBox of the prepared-series trace, for ``setXLink`` with the other time panes."""
         return self.trace_plot.getViewBox()
 
+    #: The same ViewBox, under the name the window uses.
+    time_view_box = time_axis_view_box
+
     # -------------------------------------------------------------- drawing
     def show_prepared(self, series, spec) -> None:
         """Draw ``prepare(series, spec)`` and its correlogram; an InputError shows as a message."""
@@ -103,13 +114,15 @@ class IdentificationPane(ResidualPane):
             x=[], y=[], symbol="o", size=14, pen=make_pen(theme.ATTENTION, width=2.2), brush=None
         )
         self.trace_plot.addItem(self.mean_line)
-        self.curve = add_fast_curve(self.trace_plot, x, w, make_pen(self.data_colour, width=1.2), connect="finite")
+        pen = make_pen(self.data_colour, width=line_width(w.size, 1.3))
+        self.curve = add_fast_curve(self.trace_plot, x, w, pen, connect="finite")
         self.trace_plot.addItem(self.selected_item)
         self.trace_plot.setXRange(float(x[0]), float(x[-1]), padding=0.01)
         self.trace_plot.enableAutoRange(axis="y")
 
-        self._acf = draw_correlation_bars(self.acf_plot, cg.lags, cg.acf, cg.band, season, self.data_colour)
-        self._pacf = draw_correlation_bars(self.pacf_plot, cg.lags, cg.pacf, cg.band, season, self.data_colour)
+        colour = self.data_colour
+        self._acf = draw_correlation_bars(self.acf_plot, cg.lags, cg.acf, cg.band, season, colour)
+        self._pacf = draw_correlation_bars(self.pacf_plot, cg.lags, cg.pacf, cg.band, season, colour)
         self.acf_bars, self.pacf_bars = self._acf.bars, self._pacf.bars
         self.acf_band_lines, self.pacf_band_lines = self._acf.band_lines, self._pacf.band_lines
         self.season_marks = self._acf.season_marks + self._pacf.season_marks
@@ -133,7 +146,7 @@ class IdentificationPane(ResidualPane):
 
     def _restyle(self) -> None:
         if getattr(self, "curve", None) is not None:
-            self.curve.setPen(make_pen(self.data_colour, width=1.2))
+            self.curve.setPen(make_pen(self.data_colour, width=line_width(self.w.size, 1.3)))
         cg = getattr(self, "correlogram", None)
         if cg is not None:
             restyle_bars(getattr(self, "_acf", None), cg.acf, cg.band, self.data_colour)

@@ -20,7 +20,7 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
 from .. import theme
-from .base import PaneMessage, ResidualPane, add_fast_curve, make_pen
+from .base import PaneMessage, ResidualPane, add_fast_curve, line_width, make_pen
 
 #: Line style of each band.
 BAND_STYLES = {0.05: Qt.PenStyle.SolidLine, 0.10: Qt.PenStyle.DashLine, 0.01: Qt.PenStyle.DashLine}
@@ -34,9 +34,9 @@ class CumulativePeriodogramPane(ResidualPane):
     curve : pyqtgraph.PlotDataItem
         (frequencies, cumulative) of the diagnostics' cumulative periodogram.
     reference_line : pyqtgraph.PlotDataItem
-        (frequencies, j/q).
+        The line j/q, through its end points (f_1, 1/q) and (f_q, 1).
     band_lines : dict
-        alpha -> (lower, upper) PlotDataItems at j/q ∓ band[alpha].
+        alpha -> (lower, upper) PlotDataItems at j/q ∓ band[alpha] (end points).
     max_deviation_item : pyqtgraph.PlotDataItem
         Vertical segment from the line to the curve at the largest deviation.
     max_deviation_label : pyqtgraph.TextItem
@@ -60,18 +60,25 @@ class CumulativePeriodogramPane(ResidualPane):
             raise PaneMessage("Too few residuals for a cumulative periodogram.")
         self.periodogram = cp
         f, ref = np.asarray(cp.frequencies), np.asarray(cp.reference)
-        self.reference_line = pg.PlotDataItem(f, ref, pen=make_pen(theme.REFERENCE, width=1.5), antialias=True)
+        # j/q is linear in f_j = j/n, so the line and the bands need only their end points.
+        ends = [0, f.size - 1]
+        fe, re = f[ends], ref[ends]
+        self.reference_line = pg.PlotDataItem(
+            fe, re, pen=make_pen(theme.REFERENCE, width=1.5), antialias=True
+        )
         self.plot.addItem(self.reference_line)
         self.band_lines = {}
         for alpha in sorted(cp.band, reverse=True):
             width = cp.band[alpha]
-            pen = make_pen(theme.BAND, width=1.6 if alpha == 0.05 else 1.1, style=BAND_STYLES.get(alpha, Qt.PenStyle.DashLine))
-            lower = pg.PlotDataItem(f, ref - width, pen=pen, antialias=True)
-            upper = pg.PlotDataItem(f, ref + width, pen=pen, antialias=True)
+            style = BAND_STYLES.get(alpha, Qt.PenStyle.DashLine)
+            pen = make_pen(theme.BAND, width=1.6 if alpha == 0.05 else 1.1, style=style)
+            lower = pg.PlotDataItem(fe, re - width, pen=pen, antialias=True)
+            upper = pg.PlotDataItem(fe, re + width, pen=pen, antialias=True)
             self.plot.addItem(lower)
             self.plot.addItem(upper)
             self.band_lines[alpha] = (lower, upper)
-        self.curve = add_fast_curve(self.plot, f, cp.cumulative, make_pen(self.data_colour, width=1.8))
+        pen = make_pen(self.data_colour, width=line_width(cp.q, 1.8))
+        self.curve = add_fast_curve(self.plot, f, cp.cumulative, pen)
 
         where = int(np.argmin(np.abs(f - cp.max_deviation_frequency)))
         rejected = bool(cp.reject.get(0.05, False))
@@ -93,8 +100,8 @@ class CumulativePeriodogramPane(ResidualPane):
 
         self.plot.setXRange(0.0, 0.5, padding=0.01)
         self.plot.setYRange(0.0, 1.0, padding=0.02)
-        self.set_status(f"q = {cp.q}; {cp.verdict}; bands: 5 % solid, 10 % and 1 % (outer) dashed")
+        self.set_status(f"q = {cp.q}; {cp.verdict}; bands: 5 % solid, 10 % / 1 % dashed")
 
     def _restyle(self) -> None:
         if getattr(self, "curve", None) is not None:
-            self.curve.setPen(make_pen(self.data_colour, width=1.8))
+            self.curve.setPen(make_pen(self.data_colour, width=line_width(self.periodogram.q, 1.8)))

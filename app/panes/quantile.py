@@ -30,12 +30,23 @@ import pyqtgraph as pg
 from scipy import stats
 
 from .. import theme
-from .base import PaneMessage, ResidualPane, add_fast_curve, indices_of, make_brush, make_pen, nearest_point
+from .base import (
+    PaneMessage,
+    ResidualPane,
+    add_fast_curve,
+    indices_of,
+    line_width,
+    make_brush,
+    make_pen,
+    nearest_point,
+)
 
 #: Largest number of ranks at which the envelope is evaluated.
 ENVELOPE_POINTS = 1200
 #: Above this many residuals the points are drawn as a line (they are sorted, so it is the same curve).
 SYMBOL_LIMIT = 3000
+#: Resolution of the thinned line for long series, in steps per unit of the view's size.
+THIN_STEPS = 4000
 
 
 def blom_positions(n: int) -> np.ndarray:
@@ -51,6 +62,35 @@ def envelope_ranks(n: int, max_points: int = ENVELOPE_POINTS) -> np.ndarray:
     tail = 50
     middle = np.unique(np.round(np.linspace(tail + 1, n - tail, max_points - 2 * tail)).astype(np.int64))
     return np.concatenate([np.arange(1, tail + 1), middle, np.arange(n - tail + 1, n + 1)])
+
+
+def thin_monotone_curve(x: np.ndarray, y: np.ndarray, steps: int = THIN_STEPS) -> np.ndarray:
+    """Indices of a subset of a monotone curve that keeps its shape to about 1/``steps`` of its extent.
+
+    The path length is measured with x and y scaled to their ranges, and one
+    point is kept per 1/``steps`` of it (plus the first and last), so the
+    sparse tails keep every point and the crowded middle is thinned. O(n).
+    pyqtgraph's own downsampling assumes evenly spaced x, which normal
+    quantiles are not.
+    """
+    if x.size <= 2:
+        return np.arange(x.size)
+    xr = float(x[-1] - x[0]) or 1.0
+    yr = float(np.ptp(y)) or 1.0
+    length = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(x) / xr, np.diff(y) / yr))])
+    cell = np.floor(length * (steps / max(length[-1], 1e-300))).astype(np.int64)
+    keep = np.flatnonzero(np.diff(cell, prepend=-1) != 0)
+    if keep[-1] != x.size - 1:
+        keep = np.append(keep, x.size - 1)
+    return keep
+
+
+@lru_cache(maxsize=8)
+def normal_scores(n: int) -> np.ndarray:
+    """Φ⁻¹ of Blom's positions (read-only; cached, since preview and exact fits share n)."""
+    scores = stats.norm.ppf(blom_positions(n))
+    scores.setflags(write=False)
+    return scores
 
 
 @lru_cache(maxsize=8)
@@ -76,7 +116,10 @@ class NormalQuantilePane(ResidualPane):
     Attributes
     ----------
     points : pyqtgraph.PlotDataItem
-        x: ``norm.ppf(blom_positions(n))``; y: sorted residuals.
+        x: ``norm.ppf(blom_positions(n))``; y: sorted residuals. Above
+        :data:`SYMBOL_LIMIT` residuals, a line through the points of
+        :func:`thin_monotone_curve` (all of them remain in
+        :attr:`theoretical` and :attr:`ordered`).
     reference_line : pyqtgraph.PlotDataItem
         y = x.
     envelope_lower, envelope_upper : pyqtgraph.PlotDataItem
@@ -108,7 +151,7 @@ class NormalQuantilePane(ResidualPane):
         order = np.argsort(z, kind="stable")
         rank_of = np.empty(n, dtype=np.intp)
         rank_of[order] = np.arange(n)
-        theoretical = stats.norm.ppf(blom_positions(n))
+        theoretical = normal_scores(n)
         ordered = z[order]
         self.theoretical, self.ordered, self.order, self.rank_of = theoretical, ordered, order, rank_of
 
@@ -117,15 +160,23 @@ class NormalQuantilePane(ResidualPane):
         band_pen = make_pen(theme.BAND, width=1.2)
         self.envelope_lower = pg.PlotDataItem(ex, lower, pen=band_pen, antialias=True)
         self.envelope_upper = pg.PlotDataItem(ex, upper, pen=band_pen, antialias=True)
-        self.envelope_fill = pg.FillBetweenItem(self.envelope_lower, self.envelope_upper, brush=make_brush(theme.BAND, 0.18))
+        self.envelope_fill = pg.FillBetweenItem(
+            self.envelope_lower, self.envelope_upper, brush=make_brush(theme.BAND, 0.18)
+        )
         lim = max(float(np.max(np.abs(theoretical))), float(np.max(np.abs(ordered)))) * 1.05
-        self.reference_line = pg.PlotDataItem([-lim, lim], [-lim, lim], pen=make_pen(theme.REFERENCE, width=1.5), antialias=True)
+        self.reference_line = pg.PlotDataItem(
+            [-lim, lim], [-lim, lim], pen=make_pen(theme.REFERENCE, width=1.5), antialias=True
+        )
         for item in (self.envelope_fill, self.envelope_lower, self.envelope_upper, self.reference_line):
             self.plot.addItem(item)
         if n <= SYMBOL_LIMIT:
-            self.points = add_fast_curve(self.plot, theoretical, ordered, None, symbol="o", symbolSize=5, symbolPen=None)
+            self.points = add_fast_curve(
+                self.plot, theoretical, ordered, None, symbol="o", symbolSize=5, symbolPen=None
+            )
         else:
-            self.points = add_fast_curve(self.plot, theoretical, ordered, None)
+            keep = thin_monotone_curve(theoretical, ordered)
+            self.points = pg.PlotDataItem(theoretical[keep], ordered[keep], pen=None, antialias=True)
+            self.plot.addItem(self.points)
         self._restyle()
         self.selected_item = pg.ScatterPlotItem(
             x=[], y=[], symbol="o", size=14, pen=make_pen(theme.ATTENTION, width=2.2), brush=None
@@ -136,11 +187,8 @@ class NormalQuantilePane(ResidualPane):
         pad = 0.05 * (yhi - ylo)
         self.plot.setYRange(ylo - pad, yhi + pad, padding=0)
         outside = int(np.count_nonzero((ordered[ranks - 1] < lower) | (ordered[ranks - 1] > upper)))
-        shown = "" if ranks.size == n else f" of {ranks.size} checked"
-        self.set_status(
-            f"n = {n}; Blom positions; band: pointwise 95 % (Beta order statistics); "
-            f"{outside}{shown} outside"
-        )
+        shown = "" if ranks.size == n else f" of {ranks.size} ranks"
+        self.set_status(f"Blom positions; pointwise 95 % band; outside: {outside}{shown}")
 
     def _restyle(self) -> None:
         if getattr(self, "points", None) is None:
@@ -150,7 +198,7 @@ class NormalQuantilePane(ResidualPane):
             self.points.setSymbolPen(None)
             self.points.setSymbolBrush(make_brush(code, 0.8))
         else:
-            self.points.setPen(make_pen(code, width=2))
+            self.points.setPen(make_pen(code, width=line_width(self.ordered.size, 2.0)))
 
     def _highlight(self, positions: tuple[int, ...]) -> None:
         if getattr(self, "selected_item", None) is None:

@@ -23,7 +23,6 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QCheckBox
 
 from .. import theme
@@ -50,7 +49,10 @@ class RootMapPane(ResidualPane):
     """
 
     pane_title = "Roots"
-    _item_names = ("unit_circle", "ar_item", "ma_item", "near_unit_item", "far_item", "far_labels", "axes_lines", "empty_label")
+    _item_names = (
+        "unit_circle", "ar_item", "ma_item", "near_unit_item", "far_item", "far_labels", "axes_lines",
+        "empty_label",
+    )
 
     def _build(self) -> None:
         self.plot = self.add_plot(0, 0, x_label="real part", y_label="imaginary part")
@@ -97,13 +99,19 @@ class RootMapPane(ResidualPane):
         near = [r for r in roots if r.near_unit]
         znear = self.coordinates(near)
         theta = np.linspace(0.0, 2.0 * np.pi, 361)
-        self.unit_circle = pg.PlotDataItem(np.cos(theta), np.sin(theta), pen=make_pen(theme.REFERENCE, width=1.5), antialias=True)
+        self.unit_circle = pg.PlotDataItem(
+            np.cos(theta), np.sin(theta), pen=make_pen(theme.REFERENCE, width=1.5), antialias=True
+        )
         axis_pen = make_pen(theme.REFERENCE, width=1, alpha=0.35)
-        self.axes_lines = (pg.InfiniteLine(0.0, angle=0, pen=axis_pen), pg.InfiniteLine(0.0, angle=90, pen=axis_pen))
+        self.axes_lines = (
+            pg.InfiniteLine(0.0, angle=0, pen=axis_pen),
+            pg.InfiniteLine(0.0, angle=90, pen=axis_pen),
+        )
         self.ar_item = pg.ScatterPlotItem(x=zar.real, y=zar.imag, symbol="x", size=13, name="AR root")
         self.ma_item = pg.ScatterPlotItem(x=zma.real, y=zma.imag, symbol="o", size=11, name="MA root")
         self.near_unit_item = pg.ScatterPlotItem(
-            x=znear.real, y=znear.imag, symbol="o", size=22, pen=make_pen(theme.ATTENTION, width=2), brush=None
+            x=znear.real, y=znear.imag, symbol="o", size=22,
+            pen=make_pen(theme.ATTENTION, width=2), brush=None,
         )
         self._restyle()
 
@@ -123,16 +131,24 @@ class RootMapPane(ResidualPane):
         )
         self.far_labels = []
         for point, value, side in zip(edge, far, far_sides):
-            label = pg.TextItem(f"{side} |z| = {abs(value):.3g} →", color=theme.REFERENCE, anchor=(0.5, 1.3))
+            label = pg.TextItem(
+                f"{side} |z| = {abs(value):.3g} →", color=theme.REFERENCE, anchor=(0.5, 1.3)
+            )
             label.setPos(point.real, point.imag)
             self.far_labels.append(label)
         self.far_labels = tuple(self.far_labels)
         self.empty_label = None
         if not roots:
-            self.empty_label = pg.TextItem("no AR or MA terms", color=self.colours.foreground, anchor=(0.5, 0.5))
+            self.empty_label = pg.TextItem(
+                "no AR or MA terms", color=self.colours.foreground, anchor=(0.5, 0.5)
+            )
             self.empty_label.setPos(0.0, 0.0)
 
-        for item in (*self.axes_lines, self.unit_circle, self.near_unit_item, self.ar_item, self.ma_item, self.far_item, *self.far_labels):
+        drawn = (
+            *self.axes_lines, self.unit_circle, self.near_unit_item, self.ar_item, self.ma_item,
+            self.far_item, *self.far_labels,
+        )
+        for item in drawn:
             self.plot.addItem(item)
         if self.empty_label is not None:
             self.plot.addItem(self.empty_label)

@@ -13,7 +13,17 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
 from .. import theme
-from .base import PaneMessage, ResidualPane, add_fast_curve, indices_of, make_brush, make_pen, nearest_point, observation_x
+from .base import (
+    PaneMessage,
+    ResidualPane,
+    add_fast_curve,
+    indices_of,
+    line_width,
+    make_brush,
+    make_pen,
+    nearest_point,
+    observation_x,
+)
 
 
 class ResidualTracePane(ResidualPane):
@@ -46,6 +56,9 @@ class ResidualTracePane(ResidualPane):
         """The ViewBox of the time axis, for ``setXLink`` with the series pane."""
         return self.plot.getViewBox()
 
+    #: The same ViewBox, under the name the window uses.
+    time_view_box = time_axis_view_box
+
     # -------------------------------------------------------------- drawing
     def _draw(self, evaluation, series) -> None:
         fit = evaluation.fit
@@ -69,7 +82,10 @@ class ResidualTracePane(ResidualPane):
             expected = None
 
         band_pen = make_pen(theme.BAND, width=1.2, style=Qt.PenStyle.DashLine)
-        label_opts = {"position": 0.02, "anchors": [(0, 1), (0, 1)], "color": theme.BAND}
+        label_opts = {
+            "position": 0.02, "anchors": [(0, 1), (0, 1)], "color": theme.BAND,
+            "fill": make_brush(self.colours.background, 0.85),  # readable over a dense trace
+        }
         self.zero_line = pg.InfiniteLine(0.0, angle=0, pen=make_pen(theme.REFERENCE, width=1, alpha=0.7))
         self.upper_line = pg.InfiniteLine(2.0, angle=0, pen=band_pen, label="+2σ", labelOpts=label_opts)
         self.lower_line = pg.InfiniteLine(
@@ -82,9 +98,11 @@ class ResidualTracePane(ResidualPane):
         self.selected_item = pg.ScatterPlotItem(
             x=[], y=[], symbol="o", size=15, pen=make_pen(theme.ATTENTION, width=2.2), brush=None,
         )
+        pen = make_pen(self.data_colour, width=line_width(z.size, 1.3))
+        self.curve = add_fast_curve(self.plot, x, z, pen)
+        # The lines go above the data: a dense trace would hide them.
         for item in (self.zero_line, self.upper_line, self.lower_line):
             self.plot.addItem(item)
-        self.curve = add_fast_curve(self.plot, x, z, make_pen(self.data_colour, width=1.2))
         self.plot.addItem(self.outlier_item)
         self.plot.addItem(self.selected_item)
 
@@ -99,7 +117,7 @@ class ResidualTracePane(ResidualPane):
 
     def _restyle(self) -> None:
         if getattr(self, "curve", None) is not None:
-            self.curve.setPen(make_pen(self.data_colour, width=1.2))
+            self.curve.setPen(make_pen(self.data_colour, width=line_width(self.z.size, 1.3)))
 
     # ------------------------------------------------------------ selection
     def _highlight(self, positions: tuple[int, ...]) -> None:
