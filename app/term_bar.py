@@ -97,8 +97,11 @@ class TermBar(QWidget):
         self._spec = spec
         while self._chips.count():
             item = self._chips.takeAt(0)
-            if item.widget() is not None:
-                item.widget().deleteLater()
+            widget = item.widget()
+            if widget is not None:  # hide at once: deleteLater alone leaves it drawn until the next loop turn
+                widget.hide()
+                widget.setParent(None)
+                widget.deleteLater()
         self.chip_buttons: list[QToolButton] = []
         if spec is None:
             self._label.setText("—")

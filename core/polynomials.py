@@ -100,15 +100,31 @@ class Root:
         The root z in the B plane (for a seasonal factor, one of the s roots
         of :math:`\\Phi(B^s) = 0`).
     modulus : float
+        :math:`|z|`.
+    season : int
+        1 for a non-seasonal factor, s for a seasonal one.
     """
 
     factor: str
     value: complex
     modulus: float
+    season: int = 1
+
+    @property
+    def factor_modulus(self) -> float:
+        """Modulus of the root in the factor's own variable (:math:`B^s` for a seasonal factor).
+
+        A seasonal coefficient of -0.8 puts its s roots at modulus
+        :math:`1.25^{1/s}` in the B plane (1.03 for s = 7), close to the circle
+        for every s although the factor is far from a unit root; the factor
+        root itself has modulus 1.25. Nearness to the unit circle is judged
+        on this value.
+        """
+        return self.modulus ** self.season
 
     @property
     def near_unit(self) -> bool:
-        return self.modulus < NEAR_UNIT_MODULUS
+        return self.factor_modulus < NEAR_UNIT_MODULUS
 
     @property
     def side(self) -> str:
@@ -136,7 +152,7 @@ def roots(spec: ModelSpec, params: Mapping[str, float]) -> tuple[Root, ...]:
     for factor, poly in factors(spec, params).items():
         s = spec.s if factor in ("sar", "sma") else 1
         for value in _roots_of(poly, s):
-            out.append(Root(factor, complex(value), float(abs(value))))
+            out.append(Root(factor, complex(value), float(abs(value)), s))
     return tuple(out)
 
 
@@ -167,10 +183,11 @@ class RootWarnings:
                 hint = "the series may need (more) differencing"
             else:
                 hint = "the series may be over-differenced"
-            out.append(
-                f"{root.factor.upper()} root {_fmt(root.value)} has modulus {root.modulus:.3f}, "
-                f"near the unit circle: {hint}."
-            )
+            if root.season > 1:
+                where = f"{root.factor.upper()} factor root (in B^{root.season}) with modulus {root.factor_modulus:.3f}"
+            else:
+                where = f"{root.factor.upper()} root {_fmt(root.value)} has modulus {root.modulus:.3f},"
+            out.append(f"{where} near the unit circle: {hint}.")
         for ar_root, ma_root in self.cancelling:
             out.append(
                 f"{ar_root.factor.upper()} root {_fmt(ar_root.value)} and {ma_root.factor.upper()} root "
@@ -187,7 +204,14 @@ def _fmt(z: complex) -> str:
 
 def root_warnings(all_roots: tuple[Root, ...]) -> RootWarnings:
     """Flag roots near the unit circle and AR/MA roots that nearly cancel."""
-    near = tuple(r for r in all_roots if r.near_unit)
+    near = []
+    seen_factor_roots = set()
+    for r in all_roots:  # one warning per factor root, not one per seasonal s-th root
+        key = (r.factor, round(r.factor_modulus, 9), round(abs(np.angle(r.value ** r.season)), 9))
+        if r.near_unit and key not in seen_factor_roots:
+            seen_factor_roots.add(key)
+            near.append(r)
+    near = tuple(near)
     ar_roots = [r for r in all_roots if r.side == "AR"]
     ma_roots = [r for r in all_roots if r.side == "MA"]
     pairs = []

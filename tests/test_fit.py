@@ -147,3 +147,17 @@ def test_roots_of_ar2_match_numpy():
     got = sorted((r.value for r in fit.roots), key=lambda z: z.imag)
     np.testing.assert_allclose(got, expected, atol=1e-10)
     assert all(r.modulus > 1 for r in fit.roots)
+
+
+def test_seasonal_roots_judged_in_their_own_variable():
+    # Theta = -0.8 at s = 7: the factor root 1.25 is far from the circle, though
+    # its seven 7th roots in the B plane have modulus 1.25**(1/7) = 1.032.
+    from lagwright.core.polynomials import root_warnings, roots
+
+    spec = ModelSpec(sma=(1,), D=1, s=7)
+    rs = roots(spec, {"ma.S.L7": -0.8})
+    assert len(rs) == 7 and all(abs(r.modulus - 1.25 ** (1 / 7)) < 1e-12 for r in rs)
+    assert not root_warnings(rs).near_unit
+    # Theta = -0.99: a factor root at 1.0101, near the circle: one warning, not seven.
+    warned = root_warnings(roots(spec, {"ma.S.L7": -0.99}))
+    assert len(warned.near_unit) == 1 and "over-differenced" in warned.messages()[0]

@@ -1,0 +1,78 @@
+"""Render the main window and the compare view to PNG for review.
+
+Usage (a real X server, e.g. Xvfb; offscreen also works but draws no window frame):
+
+    xvfb-run -s "-screen 0 1600x1000x24" .venv/bin/python scripts/screenshot.py --out shots/
+
+It opens the default sample, prepares it (seasonal difference, s = 7), grows
+a model by three steps with notes, waits for every exact fit, and saves:
+``main.png`` (the residual panes), ``roots.png`` (periodogram and roots tab),
+``prepared.png`` (identification tab) and ``compare.png`` (the side-by-side
+view of the last step).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+from pathlib import Path
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--out", default="shots")
+    args = parser.parse_args()
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+
+    from PySide6.QtWidgets import QApplication
+
+    from lagwright.app.window import MainWindow
+    from lagwright.core.spec import ModelSpec
+
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    window = MainWindow(use_processes=True, recovery_path=out / "recovery.lagwright.json", ask_restore=False)
+    window.resize(1500, 940)
+    window.show()
+
+    def settle(timeout: float = 120.0) -> None:
+        end = time.time() + timeout
+        while time.time() < end:
+            app.processEvents()
+            done = window.service.pending() == 0 and window.drawn is not None and window.drawn[0] == window.current_spec
+            if done and window.drawn[1] != "preview":
+                break
+            time.sleep(0.01)
+        for _ in range(20):
+            app.processEvents()
+            time.sleep(0.01)
+
+    window.open_sample("water_demand")
+    settle()
+    window.start_branch(ModelSpec(D=1, s=7))
+    window.note_edit.setPlainText("Weekly pattern in the ACF of the levels: take a seasonal difference.")
+    settle()
+    window.add_term("sma", 1)
+    window.note_edit.setPlainText("ACF spike at lag 7 after differencing: seasonal MA term.")
+    settle()
+    window.add_term("ar", 1)
+    window.note_edit.setPlainText("PACF cuts off after lag 1: one AR term.")
+    settle()
+    window.grab().save(str(out / "main.png"))
+    window.tabs.setCurrentIndex(1)
+    settle()
+    window.grab().save(str(out / "roots.png"))
+    window.tabs.setCurrentIndex(2)
+    settle()
+    window.grab().save(str(out / "prepared.png"))
+    window.compare_with_parent()
+    settle()
+    window.grab().save(str(out / "compare.png"))
+    window.close()
+    print(f"saved main.png, roots.png, prepared.png, compare.png in {out}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
