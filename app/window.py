@@ -94,12 +94,18 @@ class MainWindow(QMainWindow):
         application-data folder).
     ask_restore : bool
         Offer to restore a recovery file found at start.
+    prefetch : bool
+        Fit the neighbours of the candidate in view while the worker is idle
+        (on in the program; off by default so tests control every fit).
     """
 
     candidate_drawn = Signal(str)
 
-    def __init__(self, use_processes: bool = True, recovery_path: Path | None = None, ask_restore: bool = True):
+    def __init__(self, use_processes: bool = True, recovery_path: Path | None = None, ask_restore: bool = True,
+                 prefetch: bool = False):
         super().__init__()
+        self.prefetch = prefetch
+        self._prefetched: set[ModelSpec] = set()
         self.setWindowTitle("Lagwright")
         self.resize(1500, 940)
         self.service = FitService(use_processes=use_processes, parent=self)
@@ -320,6 +326,7 @@ class MainWindow(QMainWindow):
         self.evaluations.clear()
         self.failures.clear()
         self.latest.clear()
+        self._prefetched.clear()
         self.drawn = None
         self._drawing = None
         self.selection.clear()
@@ -503,6 +510,37 @@ class MainWindow(QMainWindow):
             self.latest[(spec, "exact")] = self.service.submit(self.series, spec, "exact", parent_fit)
         self._update_busy()
 
+    def neighbours(self, spec: ModelSpec) -> list[ModelSpec]:
+        """Specs one step away from ``spec``: the next AR/MA (and seasonal) lag added, each lag dropped."""
+        out = [spec.with_term("ar", spec.next_lag("ar")), spec.with_term("ma", spec.next_lag("ma"))]
+        for kind in ("ar", "ma", "sar", "sma"):
+            out += [spec.without_term(kind, lag) for lag in spec.lags(kind)]
+        if spec.s >= 2:
+            out += [spec.with_term("sar", spec.next_lag("sar")), spec.with_term("sma", spec.next_lag("sma"))]
+        return out
+
+    def _maybe_prefetch(self) -> None:
+        """While the exact worker is idle, fit one neighbour of the candidate in view.
+
+        One request at a time, so a step the user takes waits behind at most
+        one background fit; the result is cached and the step then draws at
+        once (design notes: idle time is free time).
+        """
+        if not self.prefetch or self.series is None or self.history is None:
+            return
+        if any(kind == "exact" and not self._has_exact(spec) and spec not in self.failures
+               for (spec, kind) in self.latest):
+            return  # the exact worker is busy
+        current = self.current_spec
+        parent_fit = self.exact_fit(current)
+        if parent_fit is None:
+            return
+        for spec in self.neighbours(current):
+            if spec not in self.evaluations and spec not in self.failures and (spec, "exact") not in self.latest:
+                self._prefetched.add(spec)
+                self.latest[(spec, "exact")] = self.service.submit(self.series, spec, "exact", parent_fit)
+                return
+
     def _parent_exact_fit(self, spec: ModelSpec):
         for candidate in self.lineage.candidates:
             if candidate.spec == spec and candidate.parent_id is not None:
@@ -526,13 +564,18 @@ class MainWindow(QMainWindow):
             if response.kind == "exact" and not ev.fit.ok:
                 self.failures[spec] = ev.fit.failure
         self._update_busy()
+        if spec in self._prefetched and spec not in {c.spec for c in self.lineage.candidates}:
+            self._maybe_prefetch()
+            return  # a neighbour fitted ahead of time: nothing on screen changes
         self._refresh_lineage_view()
         if spec == self.current_spec:
             self._draw_current()
         self.compare_view.set_candidates(self.lineage, self._evaluations_by_id())
+        self._maybe_prefetch()
 
     def _update_busy(self) -> None:
-        n = len(self.busy_specs())
+        in_lineage = {c.spec for c in self.lineage.candidates} if self.lineage is not None else set()
+        n = len(self.busy_specs() & in_lineage)
         self.busy_label.setText(f"fitting {n} candidate{'s' if n != 1 else ''}…" if n else "")
 
     # ============================================================ drawing
@@ -564,6 +607,7 @@ class MainWindow(QMainWindow):
         self.redo_action.setEnabled(self.history.can_redo)
         self.identification_pane.show_prepared(self.series, spec)
         self._ensure_fitted(spec, draw=True)
+        self._maybe_prefetch()
         self._draw_current()
 
     def _draw_current(self) -> None:
@@ -786,7 +830,7 @@ def run_window(path: str | None = None) -> int:
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setApplicationName("Lagwright")
     app.setOrganizationName("Lagwright")
-    window = MainWindow()
+    window = MainWindow(prefetch=True)
     window.show()
     restored = window.offer_restore()
     if not restored:

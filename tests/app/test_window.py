@@ -178,3 +178,17 @@ def test_exact_fits_in_a_worker_process(make_window, qtbot):
     assert w.open_sample("parts_shipments")
     wait_exact(qtbot, w)
     assert w.drawn == (w.current_spec, "exact")
+
+
+def test_idle_neighbours_are_fitted_ahead(make_window, qtbot):
+    w = make_window(prefetch=True)
+    assert w.open_sample("coldstore_temperature")
+    wait_exact(qtbot, w)
+    neighbours = w.neighbours(w.current_spec)
+    qtbot.waitUntil(lambda: all(w._has_exact(s) for s in neighbours), timeout=TIMEOUT)
+    assert len(w.lineage) == 1  # fitted ahead, but not added to the lineage
+    before = dict(w.latest)
+    w.add_term("ar", 1)
+    assert w.evaluations[w.current_spec].fit.kind == "exact"  # a cache hit: drawn without a new fit
+    assert (w.current_spec, "exact") in before
+    qtbot.waitUntil(lambda: w.drawn == (w.current_spec, "exact"), timeout=TIMEOUT)
