@@ -67,6 +67,17 @@ SEASON_FOR_FREQUENCY = {"D": 7, "B": 5, "W": 52, "MS": 12, "ME": 12, "M": 12, "Q
                         "h": 24, "H": 24, "10min": 144, "15min": 96, "30min": 48}
 
 
+#: Neighbours whose state vector would be larger than this are not fitted ahead.
+PREFETCH_MAX_STATE = 40
+
+
+def _state_size(spec: ModelSpec) -> int:
+    """Largest lag of the expanded AR or MA polynomial: the size of the ARMA state vector."""
+    ar = max(spec.ar, default=0) + max(spec.sar, default=0) * spec.s
+    ma = max(spec.ma, default=0) + max(spec.sma, default=0) * spec.s
+    return max(ar, ma + 1)
+
+
 def _season_guess(frequency: str | None) -> int:
     if not frequency:
         return 0
@@ -536,6 +547,8 @@ class MainWindow(QMainWindow):
         if parent_fit is None:
             return
         for spec in self.neighbours(current):
+            if _state_size(spec) > PREFETCH_MAX_STATE:
+                continue  # long seasonal lags make slow fits: never make the user wait behind one
             if spec not in self.evaluations and spec not in self.failures and (spec, "exact") not in self.latest:
                 self._prefetched.add(spec)
                 self.latest[(spec, "exact")] = self.service.submit(self.series, spec, "exact", parent_fit)
