@@ -105,6 +105,27 @@ def evaluate(
     return Evaluation(fit=fit, diagnostics=diagnostics, step_test=step, diagnostics_error=error)
 
 
+def check_step(series: Series, a: Fit, b: Fit) -> tuple[StepTest, Fit | None]:
+    """Nested test of two candidates, refitting the larger one if its fit fell below the smaller.
+
+    A negative likelihood-ratio statistic means the larger model's optimiser
+    stopped at a worse optimum than the model it contains; the larger one is
+    then refitted from the smaller one's estimates (zero for the extra terms)
+    before the test is reported.
+
+    Returns
+    -------
+    (StepTest, Fit or None)
+        The test, and the refitted larger fit when a refit was needed.
+    """
+    test = nested_test(a, b)
+    if not (test.applies and test.negative_lr):
+        return test, None
+    small, large = (a, b) if b.spec.nests(a.spec) else (b, a)
+    refit = fit_exact(series, large.spec, parent=small)
+    return nested_test(small, refit), refit
+
+
 class FitCache:
     """A bounded, thread-safe cache of evaluations keyed by (series, spec, kind).
 

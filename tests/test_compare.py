@@ -86,3 +86,15 @@ def test_negative_lr_is_flagged(ar1, ar2):
     broken = replace(ar2, loglik=ar1.loglik - 5.0)
     test = nested_test(ar1, broken)
     assert test.negative_lr and "failed" in test.verdict()
+
+
+def test_negative_lr_triggers_refit_from_smaller(series, ar1, ar2):
+    from dataclasses import replace
+
+    from lagwright.core.evaluate import check_step
+
+    broken = replace(ar2, loglik=ar1.loglik - 5.0)
+    test, refit = check_step(series, ar1, broken)
+    assert refit is not None and not test.negative_lr
+    assert refit.loglik == pytest.approx(ar2.loglik, abs=1e-4)
+    assert test.lr_stat == pytest.approx(nested_test(ar1, ar2).lr_stat, abs=1e-3)
