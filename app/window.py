@@ -279,7 +279,8 @@ class MainWindow(QMainWindow):
         self._action("Add next &MA lag", QKeySequence("M"), lambda: self._add_next("ma"), step)
         self._action("Add next seasonal AR lag", QKeySequence("Shift+A"), lambda: self._add_next("sar"), step)
         self._action("Add next seasonal MA lag", QKeySequence("Shift+M"), lambda: self._add_next("sma"), step)
-        self._action("&Drop the last added term", QKeySequence("Delete"), self.drop_last_added, step)
+        self._action("&Drop the selected term (focused chip, else the last added)", QKeySequence("Delete"),
+                     self.drop_last_added, step)
         step.addSeparator()
         self._action("&Next candidate", QKeySequence("Ctrl+Down"), lambda: self._move(+1), step)
         self._action("&Previous candidate", QKeySequence("Ctrl+Up"), lambda: self._move(-1), step)
@@ -407,9 +408,15 @@ class MainWindow(QMainWindow):
             self.add_term(kind, spec.next_lag(kind))
 
     def drop_last_added(self) -> None:
-        """Drop the term whose addition made the current candidate (if it was an addition)."""
+        """Drop the selected term: the focused chip of the term bar, else the term whose addition
+        made the current candidate."""
         if self.history is None:
             return
+        for chip in getattr(self.term_bar, "chip_buttons", []):
+            if chip.hasFocus():
+                kind, lag = chip.property("term")
+                self.drop_term(kind, lag)
+                return
         candidate = self.lineage.get(self.current_id)
         parent = self.lineage.parent(candidate.id)
         if parent is None:

@@ -195,3 +195,19 @@ def test_idle_neighbours_are_fitted_ahead(make_window, qtbot):
     assert w.evaluations[w.current_spec].fit.kind == "exact"  # a cache hit: drawn without a new fit
     assert (w.current_spec, "exact") in before
     qtbot.waitUntil(lambda: w.drawn == (w.current_spec, "exact"), timeout=TIMEOUT)
+
+
+def test_delete_drops_focused_chip_or_last_added(water_window, qtbot):
+    w = water_window
+    w.add_term("ar", 1)
+    w.add_term("ma", 1)
+    w.drop_last_added()  # no chip focused: drops MA 1, the term that made this candidate
+    assert w.current_spec.ma == () and w.current_spec.ar == (1,)
+    w.show()
+    qtbot.waitExposed(w)
+    w.activateWindow()
+    chip = next(c for c in w.term_bar.chip_buttons if c.property("term") == ("ar", 1))
+    chip.setFocus()
+    qtbot.waitUntil(chip.hasFocus, timeout=2000)
+    w.drop_last_added()
+    assert w.current_spec.ar == ()
