@@ -15,7 +15,7 @@ import time
 from pathlib import Path
 
 from PySide6.QtCore import QStandardPaths, Qt, QTimer, Signal
-from PySide6.QtGui import QAction, QKeySequence
+from PySide6.QtGui import QAction, QColor, QKeySequence
 from PySide6.QtWidgets import (
     QApplication,
     QFileDialog,
@@ -172,7 +172,9 @@ class MainWindow(QMainWindow):
         close.clicked.connect(self.banner.hide)
         banner_layout.addWidget(self.banner_label, 1)
         banner_layout.addWidget(close)
-        self.banner.setStyleSheet(f"background: {theme.BAND}33; border-radius: 4px;")
+        amber = QColor(theme.BAND)
+        self.banner.setStyleSheet(
+            f"background: rgba({amber.red()}, {amber.green()}, {amber.blue()}, 60); border-radius: 4px;")
         self.banner.hide()
         outer.addWidget(self.banner)
 
@@ -857,6 +859,8 @@ def run_window(path: str | None = None) -> int:
         if path is None:
             window.open_sample(samples.DEFAULT_SAMPLE_NAME)
         elif not window.open_path(path):
+            problem = window.banner_label.text()
             window.open_sample(samples.DEFAULT_SAMPLE_NAME)
+            window.notify(f"{problem} The bundled sample series is shown instead.")
     return app.exec()
 
