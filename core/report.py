@@ -138,6 +138,9 @@ def evaluation_to_dict(evaluation: Evaluation, series: Series | None = None) -> 
                 },
             }
         )
+    from .hints import suggest
+
+    out["hints"] = [hint.to_dict() for hint in suggest(evaluation, series)]
     step = evaluation.step_test
     if step is not None:
         out["step_test"] = {
@@ -224,4 +227,11 @@ def text_report(evaluation: Evaluation, series: Series | None = None) -> str:
     if step is not None:
         lines.append("")
         lines.append(f"Step test: {step.verdict()}")
+    from .hints import suggest
+
+    hints = suggest(evaluation, series)
+    if hints:
+        lines.append("")
+        lines.append("Suggested next steps (most useful first):")
+        lines += [f"  {i}. {h.reason} [{h.evidence}]" for i, h in enumerate(hints, 1)]
     return "\n".join(lines) + "\n"

@@ -163,3 +163,11 @@ def test_console_script_runs(tmp_path):
     assert json.loads(out.stdout)["label"] == "ARIMA(0,1,0)"
     bad = subprocess.run([exe, "fit", str(tmp_path / "none.csv")], capture_output=True, text=True, timeout=120)
     assert bad.returncode == 1 and "Traceback" not in bad.stderr
+
+
+def test_json_hints(capsys):
+    code, out, err = run(capsys, "fit", "sample:water_demand", "--D", "1", "--period", "7", "--ar", "1", "--json")
+    assert code == 0, err
+    hints = json.loads(out)["hints"]
+    assert hints and set(hints[0]) == {"action", "kind", "lag", "reason", "evidence", "score"}
+    assert (hints[0]["action"], hints[0]["kind"], hints[0]["lag"]) == ("add", "sma", 1)
