@@ -96,6 +96,56 @@ def _statsmodels_model(w: np.ndarray, spec: ModelSpec):
     )
 
 
+def maximised_loglik(series: Series, spec: ModelSpec, maxiter: int = 200) -> tuple[float, bool, str]:
+    """The maximised exact log-likelihood only (no standard errors, no residuals): for screening.
+
+    Tries the CSS start, then statsmodels' own start if the first does not
+    converge, and returns the better ``(loglik, converged, message)``. Much
+    cheaper than :func:`fit_exact` because the Hessian is skipped.
+    """
+    prepared = prepare(series, spec)
+    if spec.n_params >= prepared.n_observed - 1:
+        return math.nan, False, "too many parameters for the data"
+    model = _statsmodels_model(np.asarray(prepared.values), spec)
+    attempts = []
+    for strategy in ("css", "default"):
+        try:
+            start = _start_values(strategy, model, spec, prepared, None)
+        except LagwrightError:
+            continue
+        if isinstance(start, str):
+            continue
+        try:
+            attempt = _optimise(model, start, strategy, "lbfgs", maxiter)
+        except (np.linalg.LinAlgError, ValueError, OverflowError):
+            continue
+        attempts.append(attempt)
+        if attempt.converged:
+            break
+    if not attempts:
+        return math.nan, False, "no optimiser produced estimates"
+    best = _best(attempts)
+    return best.loglik, best.converged, best.message
+
+
+def exact_loglik_at(series: Series, spec: ModelSpec, params: dict) -> float:
+    """The exact log-likelihood (σ² concentrated out) at given coefficients, or NaN.
+
+    One Kalman filter pass: a cheap, sharp score for start values such as
+    the preview's estimates (NaN when they are not stationary and invertible).
+    """
+    prepared = prepare(series, spec)
+    model = _statsmodels_model(np.asarray(prepared.values), spec)
+    vector = np.array([params.get(name, 0.0) for name in model.param_names])
+    if not _valid_start(model, vector):
+        return math.nan
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        with np.errstate(all="ignore"):
+            value = float(model.loglike(vector))
+    return value if math.isfinite(value) else math.nan
+
+
 def _plain_message(caught) -> tuple[str, ...]:
     out = []
     for item in caught:

@@ -1,0 +1,62 @@
+"""The order screen against a sequential loop of exact statsmodels fits (the reference ranking)."""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import pytest
+from scipy import signal
+
+from lagwright.core.errors import InputError
+from lagwright.core.screen import orders, screen
+from lagwright.core.series import Series
+from lagwright.core.spec import ModelSpec
+
+
+@pytest.fixture(scope="module")
+def series():
+    e = np.random.default_rng(31).standard_normal(600)
+    return Series(signal.lfilter([1.0, 0.5], [1.0, -0.6], e)[200:] + 3.0)  # ARMA(1,1): MA poly, AR poly
+
+
+def _reference(y, max_p, max_q):
+    from statsmodels.tsa.arima.model import ARIMA
+
+    out = []
+    for p in range(max_p + 1):
+        for q in range(max_q + 1):
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                out.append(((p, q), ARIMA(y, order=(p, 0, q), trend="c").fit().aicc))
+    return sorted(out, key=lambda item: item[1])
+
+
+def test_same_top_three_as_sequential_exact_fits(series):
+    result = screen(series, ModelSpec(constant="mean"), 2, 2, workers=1)
+    reference = _reference(series.values, 2, 2)
+    ours = [((len(r.spec.ar), len(r.spec.ma)), r.criterion) for r in result.rows[:3]]
+    for (o, c), (ro, rc) in zip(ours, reference[:3]):
+        assert o == ro and c == pytest.approx(rc, abs=0.01)
+    assert len(result.rows) == 9 and result.rows[0].exact and result.rows[0].converged
+
+
+def test_screen_in_worker_processes(series):
+    result = screen(series, ModelSpec(constant="mean"), 1, 1, workers=2)
+    assert result.rows[0].spec.ar == (1,) and result.rows[0].spec.ma == (1,)
+
+
+def test_progress_and_cancel(series):
+    seen = []
+    result = screen(series, ModelSpec(constant="mean"), 1, 1, workers=1, progress=seen.append)
+    assert seen and seen[-1] == pytest.approx(1.0, abs=0.01) and not result.cancelled
+    stopped = screen(series, ModelSpec(constant="mean"), 2, 2, workers=1, cancelled=lambda: True)
+    assert stopped.cancelled
+
+
+def test_orders_and_limits():
+    assert len(orders(ModelSpec(s=12), 2, 1, 1, 1)) == 3 * 2 * 2 * 2
+    with pytest.raises(InputError):
+        orders(ModelSpec(), 1, 1, 1, 0)
+    with pytest.raises(InputError):
+        screen(Series(np.arange(50.0) % 7), ModelSpec(), 1, 1, criterion="aic")
