@@ -60,7 +60,8 @@ class FitResponse:
 def run_request(request: FitRequest) -> FitResponse:
     """Run one request (in a worker thread or process); never raises."""
     try:
-        evaluation = evaluate(request.series, request.spec, kind=request.kind, parent=request.parent)
+        evaluation = evaluate(request.series, request.spec, kind=request.kind, parent=request.parent,
+                              with_hints=request.kind == "exact")
         return FitResponse(request.request_id, request.spec, request.kind, evaluation)
     except LagwrightError as exc:
         return FitResponse(request.request_id, request.spec, request.kind, None, str(exc))

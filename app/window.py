@@ -47,6 +47,7 @@ from lagwright.core.spec import ModelSpec
 from . import theme
 from .compare_view import CompareView
 from .fit_service import FitResponse, FitService
+from .hints_view import HintsView
 from .lineage_view import LineageView
 from .panes import (
     CorrelationPane,
@@ -229,8 +230,10 @@ class MainWindow(QMainWindow):
         self.note_edit = QPlainTextEdit()
         self.note_edit.setPlaceholderText("Your reason for this step; it goes into the session file and the memo.")
         note_layout.addWidget(self.note_edit, 1)
+        self.hints_view = HintsView()
         bottom_layout.addWidget(lineage_box, 3)
         bottom_layout.addWidget(note_box, 1)
+        bottom_layout.addWidget(self.hints_view, 1)
 
         self.tests_panel = TestsPanel()
         upper = QSplitter(Qt.Orientation.Horizontal)
@@ -258,6 +261,7 @@ class MainWindow(QMainWindow):
         self.prepare_bar.lambda_estimate_requested.connect(self._estimate_lambda)
         self.lineage_view.candidate_selected.connect(self.select_candidate)
         self.note_edit.textChanged.connect(self._note_edited)
+        self.hints_view.hint_applied.connect(self.apply_hint)
         self.compare_view.pair_changed.connect(lambda a, b: self.compare_view.compare(a, b))
         self.selection.selection_changed.connect(self._selection_changed)
         self.tabs.currentChanged.connect(self._tab_changed)
@@ -446,6 +450,23 @@ class MainWindow(QMainWindow):
             return
         try:
             lineage, child = self.lineage.add_child(parent_id, spec)
+        except LagwrightError as exc:
+            self.notify(str(exc))
+            return
+        self._push(lineage, child.id)
+
+    def apply_hint(self, hint) -> None:
+        """Take the step a hint suggests; the hint's reason and evidence become the step note."""
+        if self.history is None:
+            return
+        parent_id = self.current_id
+        try:
+            spec = hint.apply(self.lineage.get(parent_id).spec)
+            if hint.kind in ("d", "transform"):
+                lineage, child = self.lineage.add_root(spec, step=f"new branch from a hint: {hint.reason}",
+                                                       note=hint.note, origin="hint")
+            else:
+                lineage, child = self.lineage.add_child(parent_id, spec, note=hint.note, origin="hint")
         except LagwrightError as exc:
             self.notify(str(exc))
             return
@@ -649,6 +670,7 @@ class MainWindow(QMainWindow):
             return
         ev = self.evaluations.get(spec)
         if ev is None:
+            self.hints_view.set_hints(None, "Hints follow the exact fit.")
             self._schedule(None, [lambda: self.tests_panel.show_pending(label)],
                            lambda pane: pane.clear(f"{label}: fitting…"))
             return
@@ -660,6 +682,7 @@ class MainWindow(QMainWindow):
                            lambda pane: pane.clear(f"{label}: {ev.fit.failure}"))
             return
         step = self._step_test_for(spec, ev)
+        self.hints_view.set_hints(ev.hints, "Hints follow the exact fit." if ev.is_preview else "")
         self._schedule(token, [lambda: self.tests_panel.show_evaluation(ev, step)],
                        lambda pane: pane.show_evaluation(ev, self.series))
 

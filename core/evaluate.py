@@ -42,12 +42,15 @@ class Evaluation:
     step_test : StepTest or None
         Against the parent, when a parent was given.
     diagnostics_error : str
+    hints : tuple of Hint
+        Suggested next steps (:mod:`lagwright.core.hints`), when asked for.
     """
 
     fit: Fit
     diagnostics: Diagnostics | None
     step_test: StepTest | None = None
     diagnostics_error: str = ""
+    hints: tuple = ()
 
     @property
     def spec(self) -> ModelSpec:
@@ -77,6 +80,7 @@ def evaluate(
     kind: str = "exact",
     parent: Fit | None = None,
     start: str = DEFAULT_START,
+    with_hints: bool = False,
 ) -> Evaluation:
     """Fit ``spec`` on ``series``, check its residuals and test it against ``parent``.
 
@@ -87,6 +91,8 @@ def evaluate(
         The exact fit of the candidate this one was made from.
     start : str
         Start strategy for the exact fit (see :func:`~lagwright.core.fit.fit_exact`).
+    with_hints : bool
+        Also compute the suggested next steps (a few extra preview fits).
 
     Raises
     ------
@@ -102,7 +108,12 @@ def evaluate(
         raise ValueError(f"unknown fit kind {kind!r}")
     diagnostics, error = diagnose_fit(fit)
     step = nested_test(parent, fit) if parent is not None and fit.kind == "exact" else None
-    return Evaluation(fit=fit, diagnostics=diagnostics, step_test=step, diagnostics_error=error)
+    evaluation = Evaluation(fit=fit, diagnostics=diagnostics, step_test=step, diagnostics_error=error)
+    if with_hints:
+        from .hints import suggest
+
+        evaluation = Evaluation(fit, diagnostics, step, error, suggest(evaluation, series))
+    return evaluation
 
 
 def check_step(series: Series, a: Fit, b: Fit) -> tuple[StepTest, Fit | None]:

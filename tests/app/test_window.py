@@ -211,3 +211,19 @@ def test_delete_drops_focused_chip_or_last_added(water_window, qtbot):
     qtbot.waitUntil(chip.hasFocus, timeout=2000)
     w.drop_last_added()
     assert w.current_spec.ar == ()
+
+
+def test_hint_applied_as_a_step_with_its_note(water_window, qtbot):
+    w = water_window
+    w.start_branch(ModelSpec(D=1, s=7, constant="none"))
+    wait_exact(qtbot, w)
+    w.add_term("ar", 1)
+    wait_exact(qtbot, w)
+    hints = w.hints_view.hints
+    assert hints and (hints[0].action, hints[0].kind, hints[0].lag) == ("add", "sma", 1)
+    parent = w.current_id
+    w.hints_view.apply_button.click()
+    child = w.lineage.get(w.current_id)
+    assert child.parent_id == parent and child.origin == "hint"
+    assert child.spec.sma == (1,) and hints[0].evidence in child.note
+    assert w.note_edit.toPlainText() == child.note
