@@ -45,6 +45,9 @@ from .spec import ModelSpec, Transform
 
 #: Most hints returned.
 MAX_HINTS = 5
+#: When the residuals already pass the white-noise checks, a spike must exceed
+#: the band by this factor to be suggested as a term (common practice).
+WHITE_SPIKE_FACTOR = 1.5
 #: Lags beyond this (non-seasonal) are not suggested as terms: a spike there
 #: is more likely chance than structure (common practice).
 MAX_SUGGESTED_LAG = 6
@@ -103,6 +106,10 @@ class Hint:
                 "evidence": self.evidence, "score": round(float(self.score), 4)}
 
 
+def _article(word: str) -> str:
+    return f"an {word}" if word[0] in "AEIOUaeiou" or word.startswith("MA") else f"a {word}"
+
+
 def _name(kind: str) -> str:
     return {"ar": "AR", "ma": "MA", "sar": "seasonal AR", "sma": "seasonal MA"}[kind]
 
@@ -119,11 +126,15 @@ def _correlation_hints(spec: ModelSpec, evaluation: Evaluation, series: Series |
     cg = evaluation.diagnostics.correlogram
     acf, pacf, band = np.asarray(cg.acf), np.asarray(cg.pacf), float(cg.band)
     season = spec.s if spec.s >= 2 else 0
+    # Residuals that pass the white-noise checks show an isolated spike just
+    # beyond the 95 % band at about one lag in twenty by chance: then only
+    # clear spikes count (common practice: do not chase every spike).
+    threshold = band * (WHITE_SPIKE_FACTOR if evaluation.diagnostics.white_noise_verdict.label == "white" else 1.0)
     out: list[Hint] = []
     for i, lag in enumerate(np.asarray(cg.lags)):
         lag = int(lag)
         a, p = abs(acf[i]), abs(pacf[i])
-        if max(a, p) <= band:
+        if max(a, p) <= threshold:
             continue
         seasonal = bool(season) and lag % season == 0
         if (not seasonal and lag > MAX_SUGGESTED_LAG) or (seasonal and lag // season > 2):
@@ -144,7 +155,7 @@ def _correlation_hints(spec: ModelSpec, evaluation: Evaluation, series: Series |
         where = f"seasonal lag {term_lag} (lag {lag})" if seasonal else f"lag {lag}"
         out.append(Hint(
             "add", kind, term_lag,
-            f"Residual correlation at lag {lag} is beyond its band: add a {_name(kind)} term at {where}.",
+            f"Residual correlation at lag {lag} is beyond its band: add {_article(_name(kind))} term at {where}.",
             evidence,
             score=max(a, p) / band,
         ))

@@ -63,13 +63,15 @@ def test_seasonal_spike_suggests_seasonal_term():
     assert (hints[0].action, hints[0].kind, hints[0].lag) == ("add", "sma", 1), hints
 
 
-def test_adequate_model_has_no_add_hint_at_lag_1():
+def test_adequate_model_is_not_told_to_chase_marginal_spikes():
     from lagwright.core import samples
 
     sample = samples.get_sample("water_demand")
     series = samples.load_sample(sample.name)
     hints = suggest(evaluate(series, sample.true_spec), series)
-    assert not any(h.action == "add" and h.lag == 1 for h in hints)
+    # Its residuals pass the white-noise checks; r(5) = -0.064 sits just beyond
+    # the band (0.061) as chance spikes do: no term is suggested for it.
+    assert not any(h.action == "add" for h in hints), hints
 
 
 def test_hint_note_and_dict():
