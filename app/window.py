@@ -139,6 +139,8 @@ class MainWindow(QMainWindow):
         self._draw_timer.setInterval(0)
         self._draw_timer.timeout.connect(self._draw_next)
         self._updating_note = False
+        self._prepared_stale: ModelSpec | None = None
+        self._compare_stale = False
         if recovery_path is None:
             folder = Path(QStandardPaths.writableLocation(QStandardPaths.StandardLocation.AppDataLocation) or Path.home())
             recovery_path = folder / ("recovery" + SUFFIX)
@@ -269,8 +271,14 @@ class MainWindow(QMainWindow):
     def _build_actions(self) -> None:
         menu = self.menuBar().addMenu("&File")
         self.open_action = self._action("&Open…", QKeySequence.StandardKey.Open, self.open_dialog, menu)
+        from .import_actions import install_import_actions  # Import… and Paste from clipboard
+
+        self.import_actions = install_import_actions(self, menu)
         self.save_action = self._action("&Save session", QKeySequence.StandardKey.Save, self.save, menu)
         self._action("Save session &as…", QKeySequence("Ctrl+Shift+S"), self.save_as, menu)
+        from .export_actions import install_export_actions  # memo, CSV and picture exports
+
+        self.export_actions = install_export_actions(self, menu)
         menu.addSeparator()
         samples_menu = menu.addMenu("Open &sample series")
         for sample in samples.SAMPLES:
@@ -320,10 +328,16 @@ class MainWindow(QMainWindow):
             path=str(samples.sample_path(name)), sha256=series.provenance.sha256,
             value_column=series.provenance.value_column, time_column=series.provenance.time_column, sample=name))
 
-    def open_data(self, path: str | Path, value=None, time=None, sheet=None) -> bool:
-        """Load a data file and start a lineage on it; on failure, keep everything as it was."""
+    def open_data(self, path: str | Path, value=None, time=None, sheet=None, options=None, series=None) -> bool:
+        """Load a data file and start a lineage on it; on failure, keep everything as it was.
+
+        ``options`` are import choices (ImportOptions); ``series``, if given, is the series the
+        import dialog already loaded from ``path`` with them (so a large file is not read twice).
+        """
+        sheet = sheet if sheet is not None or options is None else options.sheet
         try:
-            series = load_series(path, value=value, time=time, sheet=sheet)
+            if series is None:
+                series = load_series(path, value=value, time=time, sheet=sheet, options=options)
         except LagwrightError as exc:
             self.notify(str(exc))
             return False
@@ -613,8 +627,16 @@ class MainWindow(QMainWindow):
         self._refresh_lineage_view()
         if spec == self.current_spec:
             self._draw_current()
-        self.compare_view.set_candidates(self.lineage, self._evaluations_by_id())
+        self._refresh_compare_view()
         self._maybe_prefetch()
+
+    def _refresh_compare_view(self) -> None:
+        """Update the compare view now if it is on screen, else when its tab is shown."""
+        if self.compare_view.isVisibleTo(self) or not self.isVisible():
+            self.compare_view.set_candidates(self.lineage, self._evaluations_by_id())
+            self._compare_stale = False
+        else:
+            self._compare_stale = True
 
     def _update_busy(self) -> None:
         in_lineage = {c.spec for c in self.lineage.candidates} if self.lineage is not None else set()
@@ -648,7 +670,7 @@ class MainWindow(QMainWindow):
         self._updating_note = False
         self.undo_action.setEnabled(self.history.can_undo)
         self.redo_action.setEnabled(self.history.can_redo)
-        self.identification_pane.show_prepared(self.series, spec)
+        self._show_prepared(spec)
         self._ensure_fitted(spec, draw=True)
         self._maybe_prefetch()
         self._draw_current()
@@ -713,7 +735,21 @@ class MainWindow(QMainWindow):
             if self.drawn is not None:
                 self.candidate_drawn.emit(self.drawn[1])
 
+    def _show_prepared(self, spec: ModelSpec) -> None:
+        """Draw the prepared series now if its tab is on screen, else when the tab is shown."""
+        if self.identification_pane.isVisibleTo(self) or not self.isVisible():
+            self.identification_pane.show_prepared(self.series, spec)
+            self._prepared_stale = None
+        else:
+            self._prepared_stale = spec
+
     def _tab_changed(self, _index: int) -> None:
+        if self._prepared_stale is not None and self.identification_pane.isVisibleTo(self):
+            spec, self._prepared_stale = self._prepared_stale, None
+            self.identification_pane.show_prepared(self.series, spec)
+        if self._compare_stale and self.compare_view.isVisibleTo(self):
+            self._compare_stale = False
+            self.compare_view.set_candidates(self.lineage, self._evaluations_by_id())
         shown = [pane for pane in self._stale_panes if pane.isVisibleTo(self)]
         for pane in shown:
             self._stale_panes.discard(pane)
