@@ -15,9 +15,7 @@ included.
 
 from __future__ import annotations
 
-from collections import OrderedDict
 from dataclasses import dataclass
-from threading import Lock
 
 from .compare import StepTest, nested_test
 from .diagnostics import Diagnostics, diagnose
@@ -135,40 +133,3 @@ def check_step(series: Series, a: Fit, b: Fit) -> tuple[StepTest, Fit | None]:
     small, large = (a, b) if b.spec.nests(a.spec) else (b, a)
     refit = fit_exact(series, large.spec, parent=small)
     return nested_test(small, refit), refit
-
-
-class FitCache:
-    """A bounded, thread-safe cache of evaluations keyed by (series, spec, kind).
-
-    A fit is a pure function of the data and the spec, so the key is the
-    series fingerprint, the spec (hashable) and the fit kind.
-    """
-
-    def __init__(self, capacity: int = 256):
-        self._capacity = capacity
-        self._items: OrderedDict[tuple, Evaluation] = OrderedDict()
-        self._lock = Lock()
-
-    @staticmethod
-    def key(series: Series, spec: ModelSpec, kind: str) -> tuple:
-        return (series.fingerprint, spec, kind)
-
-    def get(self, series: Series, spec: ModelSpec, kind: str) -> Evaluation | None:
-        key = self.key(series, spec, kind)
-        with self._lock:
-            item = self._items.get(key)
-            if item is not None:
-                self._items.move_to_end(key)
-            return item
-
-    def put(self, series: Series, evaluation: Evaluation) -> None:
-        key = self.key(series, evaluation.spec, evaluation.fit.kind)
-        with self._lock:
-            self._items[key] = evaluation
-            self._items.move_to_end(key)
-            while len(self._items) > self._capacity:
-                self._items.popitem(last=False)
-
-    def __len__(self) -> int:
-        with self._lock:
-            return len(self._items)

@@ -43,7 +43,7 @@ import numpy as np
 from scipy import stats
 
 from .errors import LagwrightError
-from .polynomials import param_names, root_warnings, roots
+from .polynomials import root_warnings, roots
 from .prepare import PreparedSeries, prepare
 from .preview import css_estimate
 from .result import Convergence, Fit, ParamEstimate, failed_fit, information_criteria
