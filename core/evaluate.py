@@ -2,8 +2,9 @@
 
 :func:`evaluate` fits a candidate (exactly, or as a fast preview), runs every
 residual check on it and, given its parent, tests the step. Results are
-small frozen values; :class:`FitCache` keeps them by (series, spec, kind) so
-returning to a candidate costs nothing.
+small frozen values; a fit is a pure function of (series, spec), so callers
+cache evaluations by that key (the window keeps them per spec for its one
+series).
 
 All residual checks use the standardized one-step prediction errors
 :math:`e_t / \\sqrt{F_t}` (for the exact fit these are independent N(0, 1)
