@@ -52,10 +52,13 @@ def _lag_list(text: str) -> tuple[int, ...]:
 
 def _add_model_options(parser: argparse.ArgumentParser) -> None:
     data = parser.add_argument_group("data")
-    data.add_argument("file", help=f"CSV or Excel file, or '{SAMPLE_PREFIX}NAME' for a bundled sample series")
+    data.add_argument("file", help=f"CSV, Excel or Parquet file, or '{SAMPLE_PREFIX}NAME' for a bundled sample series")
     data.add_argument("--value", help="value column (needed only if the file has several numeric columns)")
     data.add_argument("--time", help="time column (needed only if it cannot be detected)")
     data.add_argument("--sheet", help="Excel sheet name or 0-based number (default: the first)")
+    from .import_cli import add_import_options
+
+    add_import_options(data)  # --decimal, --thousands, --delimiter, --gaps, --duplicates, --aggregate, ...
     model = parser.add_argument_group("model")
     model.add_argument("--ar", type=_lag_list, default=(), metavar="LAGS", help="AR lags, e.g. 1,2 or 1-3 or 1,12")
     model.add_argument("--ma", type=_lag_list, default=(), metavar="LAGS", help="MA lags")
@@ -85,19 +88,47 @@ def build_parser() -> argparse.ArgumentParser:
     fit.add_argument("--json", action="store_true", help="print one JSON object (see docs/fit-json.md)")
     fit.add_argument("--preview", action="store_true",
                      help="report the fast conditional-sum-of-squares preview instead of the exact fit")
+    scr = sub.add_parser("screen", help="rank every ARMA order up to limits by AICc or BIC", allow_abbrev=False,
+                         description="Screen all orders up to the limits on the prepared series (d, D, s, "
+                                     "transform) and print them ranked by the criterion.")
+    _add_model_options(scr)
+    for name, help_text in (("--max-p", "largest AR order"), ("--max-q", "largest MA order"),
+                            ("--max-P", "largest seasonal AR order"), ("--max-Q", "largest seasonal MA order")):
+        scr.add_argument(name, type=int, default=0 if name in ("--max-P", "--max-Q") else 3, help=help_text)
+    scr.add_argument("--criterion", choices=("aicc", "bic"), default="aicc")
+    scr.add_argument("--workers", type=int, default=None, help="worker processes (default: all cores)")
+    scr.add_argument("--json", action="store_true", help="print one JSON object")
+    from .memo_cli import add_memo_parser
+
+    add_memo_parser(sub, _add_model_options)
     return parser
 
 
-def load_input(file: str, value=None, time=None, sheet=None):
-    """Load a data file, or a bundled sample given as ``sample:NAME``."""
+def load_input(file: str, value=None, time=None, sheet=None, options=None):
+    """Load a data file, or a bundled sample given as ``sample:NAME``.
+
+    ``options`` are the import choices (an ImportOptions, or parsed arguments
+    carrying ``--decimal``, ``--gaps``, ``--aggregate``, ...); they apply to a
+    sample too, which is then read with its catalogued columns.
+    """
     from lagwright.core import samples
+    from lagwright.core.import_options import ImportOptions
     from lagwright.core.loader import load_series
 
+    from .import_cli import options_from_args
+
+    if options is not None and not isinstance(options, ImportOptions):
+        options = options_from_args(options)
     if file.startswith(SAMPLE_PREFIX):
-        return samples.load_sample(file[len(SAMPLE_PREFIX):])
+        name = file[len(SAMPLE_PREFIX):]
+        if options is None or options == ImportOptions():
+            return samples.load_sample(name)
+        sample = samples.get_sample(name)
+        return load_series(samples.sample_path(name), value=value or sample.value_column,
+                           time=time or sample.time_column, options=options)
     if sheet is not None and sheet.isdigit():
         sheet = int(sheet)
-    return load_series(file, value=value, time=time, sheet=sheet)
+    return load_series(file, value=value, time=time, sheet=sheet, options=options)
 
 
 def spec_from_options(args, series):
@@ -126,7 +157,7 @@ def _run_fit(args) -> int:
     from lagwright.core.evaluate import evaluate
     from lagwright.core.report import evaluation_to_dict, text_report
 
-    series = load_input(args.file, args.value, args.time, args.sheet)
+    series = load_input(args.file, args.value, args.time, args.sheet, args)
     spec = spec_from_options(args, series)
     evaluation = evaluate(series, spec, kind="preview" if args.preview else "exact")
     if args.json:
@@ -136,6 +167,28 @@ def _run_fit(args) -> int:
     if not evaluation.fit.ok:
         sys.stderr.write(f"lagwright: the model could not be fitted: {evaluation.fit.failure}\n")
         return EXIT_DATA
+    return 0
+
+
+def _run_screen(args) -> int:
+    from lagwright.core.errors import SpecError
+    from lagwright.core.screen import screen
+
+    if args.ar or args.ma or args.sar or args.sma:
+        raise SpecError("'screen' takes order limits (--max-p, --max-q, --max-P, --max-Q), not lags.")
+    series = load_input(args.file, args.value, args.time, args.sheet, args)
+    base = spec_from_options(args, series)
+    result = screen(series, base, args.max_p, args.max_q, args.max_P, args.max_Q, criterion=args.criterion,
+                    workers=args.workers)
+    if args.json:
+        payload = {"schema": "lagwright-screen", "version": 1, "criterion": result.criterion,
+                   "exact_fits": result.n_exact, "candidates": [row.to_dict() for row in result.rows]}
+        sys.stdout.write(json.dumps(payload, indent=2, allow_nan=False) + "\n")
+    else:
+        sys.stdout.write(f"{'rank':>4}  {'model':<28}{args.criterion.upper():>12}  fit\n")
+        for i, row in enumerate(result.rows, 1):
+            how = ("exact" if row.converged else "exact, NOT converged") if row.exact else "preview only"
+            sys.stdout.write(f"{i:>4}  {row.spec.label:<28}{row.criterion:>12.3f}  {how}\n")
     return 0
 
 
@@ -154,7 +207,7 @@ def main(argv: list[str] | None = None) -> int:
     from lagwright.core.errors import LagwrightError
 
     try:
-        if not argv or (len(argv) == 1 and not argv[0].startswith("-") and argv[0] not in ("fit",)):
+        if not argv or (len(argv) == 1 and not argv[0].startswith("-") and argv[0] not in ("fit", "screen", "memo")):
             return _run_window(argv[0] if argv else None)
         try:
             args = build_parser().parse_args(argv)
@@ -167,6 +220,12 @@ def main(argv: list[str] | None = None) -> int:
             return 0
         if args.command == "fit":
             return _run_fit(args)
+        if args.command == "memo":
+            from .memo_cli import run_memo
+
+            return run_memo(args)
+        if args.command == "screen":
+            return _run_screen(args)
         build_parser().print_help()
         return EXIT_USAGE
     except LagwrightError as exc:

@@ -344,7 +344,8 @@ class MainWindow(QMainWindow):
         return self._start_series(series, DataReference(
             path=str(Path(path).resolve()), sha256=series.provenance.sha256,
             value_column=series.provenance.value_column, time_column=series.provenance.time_column,
-            sheet=None if sheet is None else str(sheet)))
+            sheet=None if sheet is None else str(sheet),
+            import_options={} if options is None else options.to_dict()))
 
     def _start_series(self, series: Series, ref: DataReference, lineage: Lineage | None = None,
                       current: str | None = None) -> bool:
@@ -860,8 +861,12 @@ class MainWindow(QMainWindow):
                 data_path = Path(ref.path)
                 if not data_path.is_absolute():
                     data_path = Path(path).resolve().parent / data_path
+                from lagwright.core.import_options import ImportOptions
+
+                options = ImportOptions.from_dict(ref.import_options) if ref.import_options else None
                 series = load_series(data_path, value=ref.value_column or None, time=ref.time_column or None,
-                                     sheet=int(ref.sheet) if ref.sheet and str(ref.sheet).isdigit() else ref.sheet)
+                                     sheet=int(ref.sheet) if ref.sheet and str(ref.sheet).isdigit() else ref.sheet,
+                                     options=options)
         except LagwrightError as exc:
             self.notify(str(exc))
             return False

@@ -14,13 +14,16 @@ Schema (version 1)::
       "saved": "2026-12-01T22:00:00Z",
       "analyst": "...",
       "data": {"path": "...", "sha256": "...", "value_column": "...",
-               "time_column": "...", "sheet": null},
+               "time_column": "...", "sheet": null, "sample": "",
+               "import_options": {...}},
       "current": "c3",
       "candidates": [{"id": "c1", "parent": null, "spec": {...},
                       "step": "...", "note": "...", "origin": "start"}, ...],
       "results": {"c1": {"loglik": ..., "aic": ..., ...}, ...}
     }
 
+``import_options`` holds the import choices (ImportOptions.to_dict(): gaps,
+duplicates, aggregation, ...) so reopening reloads the same series.
 ``results`` is optional and informative (the numbers at save time, so a
 reader can tell whether a refit on reopening reproduced them).
 """
@@ -52,6 +55,7 @@ class DataReference:
     time_column: str = ""
     sheet: str | None = None
     sample: str = ""
+    import_options: dict = field(default_factory=dict)
 
 
 @dataclass(frozen=True)
@@ -78,6 +82,7 @@ class Session:
                 "time_column": self.data.time_column,
                 "sheet": self.data.sheet,
                 "sample": self.data.sample,
+                "import_options": self.data.import_options,
             },
             "current": self.current,
             "candidates": self.lineage.to_list(),
@@ -128,6 +133,9 @@ def write_session(session: Session, path: str | os.PathLike) -> Path:
             handle.write(text)
             handle.flush()
             os.fsync(handle.fileno())
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; a session is an ordinary document
         os.replace(tmp, target)
     except OSError as exc:
         try:
@@ -182,6 +190,9 @@ def read_session(path: str | os.PathLike) -> Session:
     if current is not None and current not in lineage:
         current = None
     results = payload.get("results") or {}
+    import_options = data.get("import_options") or {}
+    if not isinstance(import_options, dict):
+        raise SessionError(f"'{source.name}' has malformed import choices.")
     return Session(
         data=DataReference(
             path=str(data.get("path", "")),
@@ -190,6 +201,7 @@ def read_session(path: str | os.PathLike) -> Session:
             time_column=str(data.get("time_column", "") or ""),
             sheet=data.get("sheet"),
             sample=str(data.get("sample", "") or ""),
+            import_options=import_options,
         ),
         lineage=lineage,
         current=current,

@@ -171,3 +171,20 @@ def test_json_hints(capsys):
     hints = json.loads(out)["hints"]
     assert hints and set(hints[0]) == {"action", "kind", "lag", "reason", "evidence", "score"}
     assert (hints[0]["action"], hints[0]["kind"], hints[0]["lag"]) == ("add", "sma", 1)
+
+
+def test_screen_json(capsys):
+    code, out, err = run(capsys, "screen", "sample:coldstore_temperature", "--max-p", "2", "--max-q", "1",
+                         "--workers", "1", "--json")
+    assert code == 0, err
+    payload = json.loads(out)
+    rows = payload["candidates"]
+    assert len(rows) == 6 and payload["criterion"] == "aicc"
+    assert {"label", "orders", "criterion", "exact", "converged"} <= set(rows[0])
+    # The true process of this sample is ARMA(2,1) (sample_series/README.md).
+    assert rows[0]["orders"]["p"] == 2 and rows[0]["orders"]["q"] == 1
+
+
+def test_screen_refuses_lags(capsys):
+    code, out, err = run(capsys, "screen", "sample:coldstore_temperature", "--ar", "1")
+    assert code == 1 and "order limits" in err

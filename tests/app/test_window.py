@@ -227,3 +227,21 @@ def test_hint_applied_as_a_step_with_its_note(water_window, qtbot):
     assert child.parent_id == parent and child.origin == "hint"
     assert child.spec.sma == (1,) and hints[0].evidence in child.note
     assert w.note_edit.toPlainText() == child.note
+
+
+def test_import_choices_travel_with_the_session(make_window, qtbot, tmp_path):
+    from lagwright.core.import_options import ImportOptions
+
+    csv = tmp_path / "gappy.csv"
+    rows = [f"2024-01-{d:02d},{10 + (d % 5) * 0.5 + (d % 3)}" for d in range(1, 32) if d not in (7, 8, 20)]
+    csv.write_text("day,level_m\n" + "\n".join(rows) + "\n", encoding="utf-8")
+    options = ImportOptions(gaps="interpolate")
+    w = make_window()
+    assert w.open_data(csv, options=options)
+    wait_exact(qtbot, w)
+    assert len(w.series) == 31 and not np.isnan(w.series.values).any()
+    path = tmp_path / "gappy.lagwright.json"
+    assert w.save_to(path)
+    other = make_window()
+    assert other.open_session(path)
+    np.testing.assert_allclose(other.series.values, w.series.values)
