@@ -12,16 +12,12 @@ from __future__ import annotations
 import argparse
 
 from lagwright.core.errors import InputError
-from lagwright.core.import_options import ImportOptions
+from lagwright.core.import_options import CLI_FIELDS, ImportOptions
 
 __all__ = ["add_import_options", "options_from_args", "IMPORT_FIELDS"]
 
 #: argparse destination -> ImportOptions field.
-IMPORT_FIELDS = {
-    "decimal": "decimal", "thousands": "thousands", "delimiter": "delimiter", "timezone": "timezone",
-    "gaps": "gaps", "duplicates": "duplicates", "non_numeric": "non_numeric", "aggregate": "aggregate",
-    "frequency": "frequency",
-}
+IMPORT_FIELDS = {name: name for name in CLI_FIELDS}
 
 
 def _checked(field: str):

@@ -84,6 +84,13 @@ def _column(value, role: str):
     return int(value)
 
 
+#: Choices that the command line sets with a flag of the same name
+#: (``--non-numeric`` for ``non_numeric``); the others come from --sheet,
+#: --time, --value or a combined value such as ``--gaps value:0``.
+CLI_FIELDS = ("decimal", "thousands", "delimiter", "timezone", "gaps", "duplicates", "non_numeric",
+              "aggregate", "frequency")
+
+
 @dataclass(frozen=True)
 class ImportOptions:
     """How to read one table and what to do with its problems.

@@ -486,6 +486,21 @@ def software_versions(extra: tuple[tuple[str, str], ...] = ()) -> tuple[tuple[st
     return tuple(out)
 
 
+def _import_flags(saved: dict) -> list[str]:
+    """Command-line flags for the import choices that differ from the defaults."""
+    from .import_options import CLI_FIELDS, ImportOptions
+
+    if not saved:
+        return []
+    chosen, default = ImportOptions.from_dict(saved), ImportOptions()
+    flags = []
+    for name in CLI_FIELDS:
+        value = getattr(chosen, name)
+        if value is not None and value != getattr(default, name):
+            flags += [f"--{name.replace('_', '-')}", str(value)]
+    return flags
+
+
 def reproduce_command(spec: ModelSpec, data: DataReference | None, series: Series | None = None) -> str:
     """The ``lagwright fit`` command that refits ``spec`` from the data file.
 
@@ -507,6 +522,7 @@ def reproduce_command(spec: ModelSpec, data: DataReference | None, series: Serie
             args += ["--time", time]
         if ref.sheet not in (None, ""):
             args += ["--sheet", str(ref.sheet)]
+        args += _import_flags(ref.import_options)
     for kind in ("ar", "ma", "sar", "sma"):
         lags = spec.lags(kind)
         if lags:

@@ -331,3 +331,33 @@ def test_numbers_far_from_one_are_written_with_powers_of_ten():
     assert fmt_sig(1.3263459e21) == "1.3263 × 10²¹"
     spec = ModelSpec(ar=(1,), d=1, constant="drift")
     assert fitted_equation(spec, {"const": 6.5e9, "ar.L1": 0.5}) == "(1 − 0.500 B)(1 − B) y_t = 3.25 × 10⁹ + a_t"
+
+
+def test_reproduction_command_carries_import_choices(tmp_path, capsys):
+    # The command printed in the memo must rebuild the same series: repairs
+    # chosen on import (here, interpolating missing days) are part of it.
+    import json as _json
+    import shlex
+
+    from lagwright.app.cli import main as cli_main
+    from lagwright.core.evaluate import evaluate as _evaluate
+    from lagwright.core.import_options import ImportOptions
+    from lagwright.core.loader import load_series
+    from lagwright.core.memo_content import reproduce_command
+    from lagwright.core.session import DataReference
+    from lagwright.core.spec import ModelSpec as _Spec
+
+    csv = tmp_path / "gappy.csv"
+    rows = [f"2024-01-{d:02d},{10 + (d % 5) * 0.5 + (d % 3)}" for d in range(1, 32) if d not in (7, 8, 20)]
+    csv.write_text("day,level_m\n" + "\n".join(rows) + "\n", encoding="utf-8")
+    options = ImportOptions(gaps="interpolate")
+    series = load_series(csv, options=options)
+    spec = _Spec(ar=(1,), constant="mean")
+    ref = DataReference(path=str(csv), value_column="level_m", time_column="day", import_options=options.to_dict())
+    command = reproduce_command(spec, ref, series)
+    assert "--gaps interpolate" in command
+    argv = shlex.split(command)[1:] + ["--json"]
+    assert cli_main(argv) == 0
+    out = _json.loads(capsys.readouterr().out)
+    assert out["nobs"] == 31
+    assert out["loglik"] == pytest.approx(_evaluate(series, spec).fit.loglik, abs=1e-8)
