@@ -408,6 +408,7 @@ class MainWindow(QMainWindow):
     # ============================================================== steps
     def _push(self, lineage: Lineage, current: str) -> None:
         self.history.push(Snapshot(lineage, current))
+        self._ensure_fitted(self.current_spec, draw=True)  # the workers start before the window redraws
         self._refresh(select=True)
         self._autosave_timer.start()
 
