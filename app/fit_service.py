@@ -87,8 +87,30 @@ def _process_pool() -> ProcessPoolExecutor:
     return ProcessPoolExecutor(max_workers=1, mp_context=multiprocessing.get_context("spawn"), initializer=_init_worker)
 
 
+@dataclass(frozen=True)
+class TaskResponse:
+    """The result of a background task (``result``), or a plain error message."""
+
+    request_id: int
+    result: object
+    error: str = ""
+
+
+def run_task(request_id: int, function, args: tuple) -> TaskResponse:
+    """Run ``function(*args)`` in a worker; never raises."""
+    try:
+        return TaskResponse(request_id, function(*args))
+    except LagwrightError as exc:
+        return TaskResponse(request_id, None, str(exc))
+    except Exception as exc:  # noqa: BLE001 - reported to the user, never a traceback
+        return TaskResponse(request_id, None, f"Internal error ({type(exc).__name__}: {exc}). Please report it.")
+
+
 class FitService(QObject):
     """Runs fit requests in the background and emits ``fit_finished`` with a :class:`FitResponse`.
+
+    Other slow computations (holdout checks) go through :meth:`submit_task`
+    and come back through ``task_finished`` with a :class:`TaskResponse`.
 
     Parameters
     ----------
@@ -98,6 +120,7 @@ class FitService(QObject):
     """
 
     fit_finished = Signal(object)
+    task_finished = Signal(object)
 
     def __init__(self, use_processes: bool = True, parent: QObject | None = None):
         super().__init__(parent)
@@ -140,6 +163,37 @@ class FitService(QObject):
             return request.request_id
         future.add_done_callback(lambda f, r=request: self._done(r, f))
         return request.request_id
+
+    def submit_task(self, function, *args) -> int:
+        """Run a picklable top-level ``function(*args)`` on the exact-fit worker; returns the request id."""
+        request_id = next(self._ids)
+        with self._lock:
+            self._pending.add(request_id)
+        executor = self._processes or self._exact_threads
+        try:
+            future = executor.submit(run_task, request_id, function, args)
+        except RuntimeError as exc:
+            self._deliver_task(TaskResponse(request_id, None, f"The worker is not available ({exc})."))
+            return request_id
+        future.add_done_callback(lambda f, i=request_id: self._task_done(i, f))
+        return request_id
+
+    def _task_done(self, request_id: int, future: Future) -> None:
+        try:
+            response = future.result()
+        except Exception as exc:  # noqa: BLE001
+            response = TaskResponse(request_id, None, f"The worker stopped unexpectedly ({type(exc).__name__}).")
+            if "BrokenProcessPool" in type(exc).__name__:
+                self._restart_processes("exact")
+        self._deliver_task(response)
+
+    def _deliver_task(self, response: TaskResponse) -> None:
+        with self._lock:
+            self._pending.discard(response.request_id)
+        try:
+            self.task_finished.emit(response)
+        except RuntimeError:
+            pass
 
     def _done(self, request: FitRequest, future: Future) -> None:
         try:

@@ -46,6 +46,7 @@ from lagwright.core.spec import ModelSpec
 
 from . import theme
 from .compare_view import CompareView
+from .forecast_view import ForecastView
 from .fit_service import FitResponse, FitService
 from .hints_view import HintsView
 from .lineage_view import LineageView
@@ -210,11 +211,13 @@ class MainWindow(QMainWindow):
         more.addWidget(self.periodogram_pane)
         more.addWidget(self.root_pane)
         self.compare_view = CompareView()
+        self.forecast_view = ForecastView()
         self.tabs = QTabWidget()
         self.tabs.addTab(grid_page, "Residuals")
         self.tabs.addTab(more_page, "Periodogram && roots")
         self.tabs.addTab(self.identification_pane, "Prepared series")
         self.tabs.addTab(self.compare_view, "Side by side")
+        self.tabs.addTab(self.forecast_view, "Holdout && forecast")
 
         bottom = QWidget()
         bottom_layout = QHBoxLayout(bottom)
@@ -264,6 +267,8 @@ class MainWindow(QMainWindow):
         self.lineage_view.candidate_selected.connect(self.select_candidate)
         self.note_edit.textChanged.connect(self._note_edited)
         self.hints_view.hint_applied.connect(self.apply_hint)
+        self.forecast_view.check_requested.connect(self.check_forecast)
+        self.service.task_finished.connect(self._on_task_finished)
         self.compare_view.pair_changed.connect(lambda a, b: self.compare_view.compare(a, b))
         self.selection.selection_changed.connect(self._selection_changed)
         self.tabs.currentChanged.connect(self._tab_changed)
@@ -369,6 +374,7 @@ class MainWindow(QMainWindow):
             current = root.id
         self.history = History(Snapshot(lineage, current or lineage.candidates[-1].id))
         self.setWindowTitle(f"Lagwright — {series.name} ({series.provenance.source or 'in memory'})")
+        self.forecast_view.set_defaults(len(series), _season_guess(series.frequency))
         self.banner.hide()
         self.statusBar().showMessage(f"Loaded {len(series)} values of {series.name}", 8000)
         self._refresh(select=True)
@@ -487,6 +493,36 @@ class MainWindow(QMainWindow):
             self.notify(str(exc))
             return
         self._push(lineage, child.id)
+
+    def check_forecast(self, holdout: int, horizon: int, back_transform: str) -> None:
+        """Score the candidate in view on a holdout and forecast from the end (in a worker)."""
+        if self.history is None:
+            return
+        spec = self.current_spec
+        fit = self.exact_fit(spec)
+        if fit is None:
+            self.forecast_view.show_message("The exact fit of this candidate has not arrived yet; try again in a moment.")
+            return
+        if holdout >= len(self.series) - 16:
+            self.forecast_view.show_message("The holdout leaves too few values to refit; hold back fewer.")
+            return
+        from lagwright.core.forecast import forecast_check
+
+        self.forecast_view.show_pending(spec.description)
+        self._forecast_request = (self.service.submit_task(forecast_check, self.series, fit, holdout, horizon,
+                                                           back_transform), spec)
+
+    def _on_task_finished(self, response) -> None:
+        request = getattr(self, "_forecast_request", None)
+        if request is None or response.request_id != request[0]:
+            return  # superseded
+        self._forecast_request = None
+        if request[1] != self.current_spec:
+            return  # the user moved to another candidate: never drawn
+        if response.error:
+            self.forecast_view.show_message(response.error)
+        else:
+            self.forecast_view.show_result(response.result, self.series)
 
     def start_branch(self, spec: ModelSpec) -> None:
         """Start a new root with another preparation; the old candidates stay untouched."""
@@ -675,6 +711,10 @@ class MainWindow(QMainWindow):
         self._show_prepared(spec)
         self._ensure_fitted(spec, draw=True)
         self._maybe_prefetch()
+        if getattr(self.forecast_view, "shown_for", None) != spec:
+            self.forecast_view.shown_for = spec
+            self._forecast_request = None
+            self.forecast_view.show_message(f"{spec.description}: choose a holdout and press Check.")
         self._draw_current()
 
     def _draw_current(self) -> None:

@@ -272,3 +272,29 @@ def holdout(series: Series, spec: ModelSpec, horizon: int, back_transform: str =
         float(np.mean(inside95[observed])) if observed.any() else math.nan,
         errors, fc, scale,
     )
+
+
+@dataclass(frozen=True, eq=False)
+class ForecastCheck:
+    """A holdout score and a forecast from the end of the full series, for one candidate."""
+
+    spec: ModelSpec
+    holdout: HoldoutScore | None
+    future: Forecast | None
+    failure: str = ""
+
+
+def forecast_check(series: Series, fit: Fit, holdout_size: int, horizon: int,
+                   back_transform: str = "median") -> ForecastCheck:
+    """Score ``fit.spec`` on the last ``holdout_size`` values and forecast ``horizon`` steps ahead.
+
+    Never raises for a model problem: ``failure`` says what went wrong.
+    """
+    score = None
+    try:
+        if holdout_size:
+            score = holdout(series, fit.spec, holdout_size, back_transform)
+        future = forecast(series, fit, horizon, back_transform)
+    except LagwrightError as exc:
+        return ForecastCheck(fit.spec, score, None, str(exc))
+    return ForecastCheck(fit.spec, score, future)

@@ -93,3 +93,14 @@ def test_holdout_failure_is_reported():
     y = _sim(40, seed=5)
     score = holdout(Series(y), ModelSpec(ar=tuple(range(1, 21)), ma=tuple(range(1, 21))), 5)
     assert not score.ok and score.failure
+
+
+def test_forecast_check_combines_holdout_and_future():
+    from lagwright.core.forecast import forecast_check
+
+    y = _sim(300, ar=(0.5,), seed=6, mean=4.0)
+    series = Series(y)
+    spec = ModelSpec(ar=(1,), constant="mean")
+    check = forecast_check(series, fit_exact(series, spec), 20, 10)
+    assert not check.failure and check.future.horizon == 10
+    assert check.holdout.rmse == pytest.approx(holdout(series, spec, 20).rmse)

@@ -245,3 +245,22 @@ def test_import_choices_travel_with_the_session(make_window, qtbot, tmp_path):
     other = make_window()
     assert other.open_session(path)
     np.testing.assert_allclose(other.series.values, w.series.values)
+
+
+def test_holdout_and_forecast_tab(water_window, qtbot):
+    from lagwright.core.forecast import holdout as core_holdout
+
+    w = water_window
+    w.start_branch(ModelSpec(ar=(1,), sma=(1,), D=1, s=7))
+    wait_exact(qtbot, w)
+    w.tabs.setCurrentWidget(w.forecast_view)
+    w.forecast_view.holdout_box.setValue(28)
+    w.forecast_view.horizon_box.setValue(14)
+    w.forecast_view.check_button.click()
+    qtbot.waitUntil(lambda: w.forecast_view.result is not None, timeout=TIMEOUT)
+    result = w.forecast_view.result
+    # Reference: the core holdout computed directly (its own formulas are tested in tests/test_forecast.py).
+    direct = core_holdout(w.series, w.current_spec, 28)
+    assert result.holdout.rmse == pytest.approx(direct.rmse, rel=1e-6)
+    assert result.future.horizon == 14
+    assert "RMSE" in w.forecast_view.scores.text() and "MASE" in w.forecast_view.scores.text()
