@@ -304,6 +304,8 @@ class MainWindow(QMainWindow):
         self._action("&Next candidate", QKeySequence("Ctrl+Down"), lambda: self._move(+1), step)
         self._action("&Previous candidate", QKeySequence("Ctrl+Up"), lambda: self._move(-1), step)
         self._action("Compare with &parent", QKeySequence("Ctrl+D"), self.compare_with_parent, step)
+        step.addSeparator()
+        self._action("Order &screen…", QKeySequence("Ctrl+R"), self.open_screen, step)
 
     def _action(self, text, shortcut, slot, menu) -> QAction:
         action = QAction(text, self)
@@ -493,6 +495,35 @@ class MainWindow(QMainWindow):
             self.notify(str(exc))
             return
         self._push(lineage, child.id)
+
+    def open_screen(self, workers: int | None = None):
+        """Open the order-screen dialog on the current preparation; returns the dialog."""
+        if self.history is None:
+            return None
+        from .screen_dialog import ScreenDialog
+
+        base = self.current_spec
+        base = ModelSpec(d=base.d, D=base.D, s=base.s, transform=base.transform, constant=base.constant)
+        dialog = ScreenDialog(self.series, base, self, workers=workers)
+        dialog.candidates_chosen.connect(self.add_screened)
+        dialog.show()
+        return dialog
+
+    def add_screened(self, specs: list) -> None:
+        """Add orders chosen in the screen as new candidates (marked as coming from the screen)."""
+        if self.history is None or not specs:
+            return
+        lineage, last = self.lineage, None
+        for spec in specs:
+            if lineage.find(spec) is not None:
+                continue
+            lineage, last = lineage.add_root(spec, step="from the order screen", origin="screen")
+        if last is None:
+            self.notify("Those orders are already in the lineage.")
+            return
+        self._push(lineage, last.id)
+        for c in lineage.candidates:
+            self._ensure_fitted(c.spec, draw=False)
 
     def check_forecast(self, holdout: int, horizon: int, back_transform: str) -> None:
         """Score the candidate in view on a holdout and forecast from the end (in a worker)."""

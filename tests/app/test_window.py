@@ -264,3 +264,37 @@ def test_holdout_and_forecast_tab(water_window, qtbot):
     assert result.holdout.rmse == pytest.approx(direct.rmse, rel=1e-6)
     assert result.future.horizon == 14
     assert "RMSE" in w.forecast_view.scores.text() and "MASE" in w.forecast_view.scores.text()
+
+
+def test_order_screen_dialog_adds_candidates(make_window, qtbot):
+    w = make_window()
+    assert w.open_sample("coldstore_temperature")
+    wait_exact(qtbot, w)
+    w.start_branch(ModelSpec(constant="mean"))  # no season for the screen
+    wait_exact(qtbot, w)
+    dialog = w.open_screen(workers=1)
+    dialog.boxes["p"].setValue(2)
+    dialog.boxes["q"].setValue(1)
+    dialog.start()
+    qtbot.waitUntil(lambda: dialog.result is not None, timeout=TIMEOUT)
+    dialog.wait()
+    best = dialog.result.rows[0].spec
+    assert (len(best.ar), len(best.ma)) == (2, 1)  # the sample's true order (sample_series/README.md)
+    assert dialog.table.rowCount() == 6 and dialog.progress.value() == 100
+    dialog.add_button.click()
+    added = w.lineage.get(w.current_id)
+    assert added.origin == "screen" and added.spec == best
+    dialog.done(0)
+
+
+def test_order_screen_cancel(make_window, qtbot):
+    w = make_window()
+    assert w.open_sample("coldstore_temperature")
+    wait_exact(qtbot, w)
+    dialog = w.open_screen(workers=1)
+    dialog._cancel.set()
+    dialog.start()
+    dialog._cancel.set()
+    qtbot.waitUntil(lambda: dialog.run_button.isEnabled(), timeout=TIMEOUT)
+    dialog.wait()
+    dialog.done(0)
