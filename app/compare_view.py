@@ -22,13 +22,16 @@ from PySide6.QtWidgets import (
     QFrame,
     QHBoxLayout,
     QLabel,
+    QPushButton,
     QScrollArea,
     QSizePolicy,
+    QSpinBox,
     QVBoxLayout,
     QWidget,
 )
 
 from lagwright.core.compare import comparability, criteria_difference, nested_test
+from lagwright.core.errors import LagwrightError
 
 from . import theme
 from .explain import TOOLTIPS, format_count, format_number, format_p, format_signed
@@ -103,6 +106,7 @@ class CompareView(QWidget):
     """
 
     pair_changed = Signal(str, str)
+    forecast_requested = Signal(str, str, int)
 
     def __init__(self, parent: QWidget | None = None):
         super().__init__(parent)
@@ -155,6 +159,24 @@ class CompareView(QWidget):
         tests.addWidget(self.test_header)
         tests.addWidget(self.test_label)
         tests.addWidget(self.test_table, 0, Qt.AlignmentFlag.AlignLeft)
+        forecast_row = QHBoxLayout()
+        self.forecast_holdout = QSpinBox()
+        self.forecast_holdout.setRange(2, 100000)
+        self.forecast_holdout.setValue(24)
+        self.forecast_holdout.setSuffix(" held back")
+        self.forecast_holdout.setToolTip("Final values whose one-step forecasts are compared (the models are "
+                                         "refitted without them)")
+        self.forecast_button = QPushButton("Compare forecasts")
+        self.forecast_button.setToolTip("Diebold-Mariano test of the two candidates' one-step holdout errors, with "
+                                        "the small-sample correction of Harvey, Leybourne & Newbold (1997)")
+        self.forecast_button.clicked.connect(self._forecast_clicked)
+        forecast_row.addWidget(self.forecast_holdout)
+        forecast_row.addWidget(self.forecast_button)
+        tests.addLayout(forecast_row)
+        self.forecast_label = QLabel("")
+        self.forecast_label.setWordWrap(True)
+        self.forecast_label.setTextFormat(Qt.TextFormat.PlainText)
+        tests.addWidget(self.forecast_label)
         tests.addStretch(1)
         self.tests_box.setMinimumWidth(240)
         self.tests_box.setMaximumWidth(420)
@@ -421,6 +443,18 @@ class CompareView(QWidget):
                 Cell(name, tip), Cell(fmt(va), tip, numeric=True), Cell(fmt(vb), tip, numeric=True),
                 Cell(d_text, TOOLTIPS["difference"], numeric=True),
             ]))
+        if self._comparable:
+            from lagwright.core.accuracy_tests import akaike_weights
+
+            try:
+                wa, wb = akaike_weights([fa.aicc, fb.aicc])
+                tip = ("Akaike weights from AICc: the relative support of each candidate within this pair "
+                       "(Burnham & Anderson, 2002).")
+                rows.append(("akaike_weight", [Cell("Akaike weight (AICc)", tip),
+                                               Cell(f"{wa:.3f}", tip, numeric=True),
+                                               Cell(f"{wb:.3f}", tip, numeric=True), Cell("")]))
+            except LagwrightError:
+                pass
         verdict_cells = []
         for ev in (ev_a, ev_b):
             if ev.diagnostics is None:
@@ -436,6 +470,28 @@ class CompareView(QWidget):
         self.table.fill(rows)
         self.table.setColumnHidden(COL_DIFF, not self._comparable)
         self.table.updateGeometry()
+
+    def _forecast_clicked(self) -> None:
+        a, b = self.pair()
+        if a and b and a != b:
+            self.forecast_label.setText("Refitting both without the holdout and comparing their forecasts…")
+            self.forecast_requested.emit(a, b, self.forecast_holdout.value())
+
+    def show_forecast_comparison(self, result=None, message: str = "") -> None:
+        """Show a :class:`~lagwright.core.forecast.ForecastComparison` (or a message)."""
+        self.forecast_result = result
+        if result is None:
+            self.forecast_label.setText(message)
+            return
+        dm = result.test
+        better = "A" if dm.mean_differential < 0 else "B"
+        self.forecast_label.setText(
+            f"One-step forecasts of the last {result.holdout} values: RMSE A {format_number(result.rmse_a)}, "
+            f"B {format_number(result.rmse_b)}. Diebold-Mariano (squared errors, HLN-corrected): "
+            f"{format_number(dm.corrected)} on {dm.df} df, p = {format_p(dm.p)}"
+            + (f" — {better} forecasts significantly better at 5 %." if dm.p < 0.05
+               else " — no significant difference at 5 %.")
+        )
 
     def _fill_test(self, fa, fb, reason: str) -> None:
         if reason:

@@ -268,6 +268,7 @@ class MainWindow(QMainWindow):
         self.note_edit.textChanged.connect(self._note_edited)
         self.hints_view.hint_applied.connect(self.apply_hint)
         self.forecast_view.check_requested.connect(self.check_forecast)
+        self.compare_view.forecast_requested.connect(self.compare_forecasts)
         self.service.task_finished.connect(self._on_task_finished)
         self.compare_view.pair_changed.connect(lambda a, b: self.compare_view.compare(a, b))
         self.selection.selection_changed.connect(self._selection_changed)
@@ -543,7 +544,30 @@ class MainWindow(QMainWindow):
         self._forecast_request = (self.service.submit_task(forecast_check, self.series, fit, holdout, horizon,
                                                            back_transform), spec)
 
+    def compare_forecasts(self, id_a: str, id_b: str, holdout: int) -> None:
+        """Diebold-Mariano comparison of two candidates' one-step holdout forecasts (in a worker)."""
+        if self.history is None:
+            return
+        if holdout >= len(self.series) - 16:
+            self.compare_view.show_forecast_comparison(None, "The holdout leaves too few values; hold back fewer.")
+            return
+        from lagwright.core.forecast import compare_forecasts
+
+        spec_a, spec_b = self.lineage.get(id_a).spec, self.lineage.get(id_b).spec
+        self._compare_request = (self.service.submit_task(compare_forecasts, self.series, spec_a, spec_b, holdout),
+                                 (id_a, id_b))
+
     def _on_task_finished(self, response) -> None:
+        compare = getattr(self, "_compare_request", None)
+        if compare is not None and response.request_id == compare[0]:
+            self._compare_request = None
+            if self.compare_view.pair() != compare[1]:
+                return  # the pair changed meanwhile: never shown
+            if response.error:
+                self.compare_view.show_forecast_comparison(None, response.error)
+            else:
+                self.compare_view.show_forecast_comparison(response.result)
+            return
         request = getattr(self, "_forecast_request", None)
         if request is None or response.request_id != request[0]:
             return  # superseded

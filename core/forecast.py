@@ -298,3 +298,66 @@ def forecast_check(series: Series, fit: Fit, holdout_size: int, horizon: int,
     except LagwrightError as exc:
         return ForecastCheck(fit.spec, score, None, str(exc))
     return ForecastCheck(fit.spec, score, future)
+
+
+def one_step_errors(series: Series, spec: ModelSpec, holdout_size: int) -> np.ndarray:
+    """One-step-ahead forecast errors over the last ``holdout_size`` values, on the original scale.
+
+    The model is estimated without the holdout; its estimates are then kept
+    fixed while the filter runs through the holdout, each forecast made from
+    all values before it (a rolling origin without re-estimation). These are
+    the errors the Diebold-Mariano test compares (horizon 1).
+
+    Raises
+    ------
+    InputError
+        If the fit without the holdout fails.
+    """
+    import warnings
+
+    from statsmodels.tsa.arima.model import ARIMA
+
+    n = len(series)
+    if not 1 <= int(holdout_size) < n:
+        raise InputError(f"The holdout must be between 1 and {n - 1} observations.")
+    train = Series(series.values[: n - holdout_size], None if series.times is None else series.times[: n - holdout_size],
+                   series.name, series.frequency, series.provenance)
+    fit = fit_exact(train, spec)
+    if not fit.ok:
+        raise InputError(f"{spec.label} could not be fitted without the holdout: {fit.failure}")
+    prepared = prepare(series, spec)
+    seasonal = bool(spec.sar or spec.sma)
+    model = ARIMA(np.asarray(prepared.values), order=(list(spec.ar) or 0, 0, list(spec.ma) or 0),
+                  seasonal_order=(list(spec.sar) or 0, 0, list(spec.sma) or 0, spec.s if seasonal else 0),
+                  trend="c" if spec.has_constant else "n")
+    params = fit.param_dict
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        res = model.filter(np.array([params[name] for name in model.param_names]))
+    e = np.asarray(res.filter_results.forecasts_error[0], dtype=float)[-holdout_size:]
+    z = apply_transform(series.values, spec.transform, series.name)[-holdout_size:]
+    predicted = invert_transform(z - e, spec.transform)
+    return series.values[-holdout_size:] - predicted
+
+
+@dataclass(frozen=True)
+class ForecastComparison:
+    """Two candidates' one-step holdout forecasts compared (Diebold-Mariano, squared loss)."""
+
+    holdout: int
+    label_a: str
+    label_b: str
+    rmse_a: float
+    rmse_b: float
+    test: object  # DieboldMariano
+
+
+def compare_forecasts(series: Series, spec_a: ModelSpec, spec_b: ModelSpec, holdout_size: int) -> ForecastComparison:
+    """Diebold-Mariano test (HLN-corrected) of two candidates' one-step holdout errors."""
+    from .accuracy_tests import diebold_mariano
+
+    ea = one_step_errors(series, spec_a, holdout_size)
+    eb = one_step_errors(series, spec_b, holdout_size)
+    rmse = lambda e: float(np.sqrt(np.nanmean(e**2)))  # noqa: E731
+    return ForecastComparison(holdout_size, spec_a.label, spec_b.label, rmse(ea), rmse(eb),
+                              diebold_mariano(ea, eb, horizon=1))

@@ -104,3 +104,27 @@ def test_forecast_check_combines_holdout_and_future():
     check = forecast_check(series, fit_exact(series, spec), 20, 10)
     assert not check.failure and check.future.horizon == 10
     assert check.holdout.rmse == pytest.approx(holdout(series, spec, 20).rmse)
+
+
+def test_one_step_errors_equal_the_filter_innovations():
+    # Reference: statsmodels' one-step forecast errors of the full series with
+    # the parameters estimated without the holdout (no transform, no differencing).
+    from statsmodels.tsa.arima.model import ARIMA
+
+    from lagwright.core.forecast import one_step_errors
+
+    y = _sim(400, ar=(0.6,), seed=7, mean=2.0)
+    spec = ModelSpec(ar=(1,), constant="mean")
+    errors = one_step_errors(Series(y), spec, 50)
+    fit = fit_exact(Series(y[:-50]), spec)
+    ref = ARIMA(y, order=(1, 0, 0), trend="c").filter(
+        np.array([fit.param(n).value for n in ("const", "ar.L1", "sigma2")]))
+    np.testing.assert_allclose(errors, ref.filter_results.forecasts_error[0][-50:], rtol=1e-8, atol=1e-10)
+
+
+def test_compare_forecasts_prefers_the_true_model():
+    from lagwright.core.forecast import compare_forecasts
+
+    y = _sim(600, ar=(0.8,), seed=8, mean=0.0)
+    result = compare_forecasts(Series(y), ModelSpec(ar=(1,)), ModelSpec(), 100)
+    assert result.rmse_a < result.rmse_b and result.test.mean_differential < 0 and result.test.p < 0.05

@@ -298,3 +298,29 @@ def test_order_screen_cancel(make_window, qtbot):
     qtbot.waitUntil(lambda: dialog.run_button.isEnabled(), timeout=TIMEOUT)
     dialog.wait()
     dialog.done(0)
+
+
+def test_compare_view_forecasts_and_akaike_weights(water_window, qtbot):
+    from lagwright.core.forecast import compare_forecasts
+
+    w = water_window
+    w.start_branch(ModelSpec(sma=(1,), D=1, s=7))
+    wait_exact(qtbot, w)
+    w.add_term("ar", 1)
+    wait_exact(qtbot, w)
+    w.compare_with_parent()
+    a, b = w.compare_view.pair()
+    fa, fb = w.exact_fit(w.lineage.get(a).spec), w.exact_fit(w.lineage.get(b).spec)
+    # Burnham & Anderson (2002, §2.9): w = exp(-Δ/2) / Σ exp(-Δ/2) over the pair's AICc.
+    delta = np.array([fa.aicc, fb.aicc]) - min(fa.aicc, fb.aicc)
+    weights = np.exp(-delta / 2) / np.exp(-delta / 2).sum()
+    assert w.compare_view.cell_text("akaike_weight", 1) == f"{weights[0]:.3f}"
+    assert w.compare_view.cell_text("akaike_weight", 2) == f"{weights[1]:.3f}"
+    w.compare_view.forecast_holdout.setValue(56)
+    w.compare_view.forecast_button.click()
+    qtbot.waitUntil(lambda: getattr(w.compare_view, "forecast_result", None) is not None, timeout=TIMEOUT)
+    shown = w.compare_view.forecast_result
+    a, b = w.compare_view.pair()
+    direct = compare_forecasts(w.series, w.lineage.get(a).spec, w.lineage.get(b).spec, 56)
+    assert shown.test.p == pytest.approx(direct.test.p, rel=1e-6)
+    assert "Diebold-Mariano" in w.compare_view.forecast_label.text()
