@@ -83,7 +83,13 @@ class _Attempt:
         )
 
 
-def _statsmodels_model(w: np.ndarray, spec: ModelSpec):
+def arma_model(w: np.ndarray, spec: ModelSpec, concentrate_scale: bool = True):
+    """statsmodels' state-space ARIMA for the ARMA part of ``spec`` on the prepared series ``w``.
+
+    The differencing is already in ``w`` (see :mod:`lagwright.core.prepare`),
+    so the model has d = D = 0 and a stationary initial state; its parameter
+    names are those of :func:`lagwright.core.polynomials.param_names`.
+    """
     from statsmodels.tsa.arima.model import ARIMA  # heavy import: keep it off start-up paths
 
     seasonal = bool(spec.sar or spec.sma)
@@ -92,8 +98,10 @@ def _statsmodels_model(w: np.ndarray, spec: ModelSpec):
         order=(list(spec.ar) or 0, 0, list(spec.ma) or 0),
         seasonal_order=(list(spec.sar) or 0, 0, list(spec.sma) or 0, spec.s if seasonal else 0),
         trend="c" if spec.has_constant else "n",
-        concentrate_scale=True,
+        concentrate_scale=concentrate_scale,
     )
+
+
 
 
 def maximised_loglik(series: Series, spec: ModelSpec, maxiter: int = 200) -> tuple[float, bool, str]:
@@ -106,7 +114,7 @@ def maximised_loglik(series: Series, spec: ModelSpec, maxiter: int = 200) -> tup
     prepared = prepare(series, spec)
     if spec.n_params >= prepared.n_observed - 1:
         return math.nan, False, "too many parameters for the data"
-    model = _statsmodels_model(np.asarray(prepared.values), spec)
+    model = arma_model(np.asarray(prepared.values), spec)
     attempts = []
     for strategy in ("css", "default"):
         try:
@@ -135,7 +143,7 @@ def exact_loglik_at(series: Series, spec: ModelSpec, params: dict) -> float:
     the preview's estimates (NaN when they are not stationary and invertible).
     """
     prepared = prepare(series, spec)
-    model = _statsmodels_model(np.asarray(prepared.values), spec)
+    model = arma_model(np.asarray(prepared.values), spec)
     vector = np.array([params.get(name, 0.0) for name in model.param_names])
     if not _valid_start(model, vector):
         return math.nan
@@ -251,7 +259,7 @@ def fit_exact(
             "after differencing: drop terms or use a longer series.",
             elapsed=time.perf_counter() - started,
         )
-    model = _statsmodels_model(np.asarray(prepared.values), spec)
+    model = arma_model(np.asarray(prepared.values), spec)
 
     order = [start] + [s for s in START_STRATEGIES if s != start]
     plan = [(strategy, "lbfgs") for strategy in order] + [("default", "nm"), ("default", "powell")]

@@ -33,7 +33,7 @@ import numpy as np
 from scipy import stats
 
 from .errors import InputError, LagwrightError
-from .fit import fit_exact
+from .fit import arma_model, fit_exact
 from .polynomials import expanded_polynomials
 from .prepare import apply_transform, invert_transform, prepare
 from .result import Fit
@@ -160,15 +160,7 @@ def _arma_forecast(w: np.ndarray, spec: ModelSpec, params: dict, horizon: int) -
     """Exact ARMA forecasts of the differenced series (Kalman filter with the given estimates)."""
     import warnings
 
-    from statsmodels.tsa.arima.model import ARIMA
-
-    seasonal = bool(spec.sar or spec.sma)
-    model = ARIMA(
-        w,
-        order=(list(spec.ar) or 0, 0, list(spec.ma) or 0),
-        seasonal_order=(list(spec.sar) or 0, 0, list(spec.sma) or 0, spec.s if seasonal else 0),
-        trend="c" if spec.has_constant else "n",
-    )
+    model = arma_model(w, spec, concentrate_scale=False)
     vector = np.array([params[name] for name in model.param_names])
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -315,8 +307,6 @@ def one_step_errors(series: Series, spec: ModelSpec, holdout_size: int) -> np.nd
     """
     import warnings
 
-    from statsmodels.tsa.arima.model import ARIMA
-
     n = len(series)
     if not 1 <= int(holdout_size) < n:
         raise InputError(f"The holdout must be between 1 and {n - 1} observations.")
@@ -325,11 +315,7 @@ def one_step_errors(series: Series, spec: ModelSpec, holdout_size: int) -> np.nd
     fit = fit_exact(train, spec)
     if not fit.ok:
         raise InputError(f"{spec.label} could not be fitted without the holdout: {fit.failure}")
-    prepared = prepare(series, spec)
-    seasonal = bool(spec.sar or spec.sma)
-    model = ARIMA(np.asarray(prepared.values), order=(list(spec.ar) or 0, 0, list(spec.ma) or 0),
-                  seasonal_order=(list(spec.sar) or 0, 0, list(spec.sma) or 0, spec.s if seasonal else 0),
-                  trend="c" if spec.has_constant else "n")
+    model = arma_model(np.asarray(prepare(series, spec).values), spec, concentrate_scale=False)
     params = fit.param_dict
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
