@@ -202,6 +202,7 @@ def _optimise(model, start, strategy: str, optimizer: str, maxiter: int) -> _Att
                 start_params=start,
                 method_kwargs={"method": optimizer, "maxiter": maxiter, "disp": 0},
                 low_memory=True,
+                cov_type="none",  # the covariance is computed once, at the chosen optimum (_to_fit)
             )
     retvals = res.mle_retvals or {}
     converged = bool(retvals.get("converged", False))
