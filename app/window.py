@@ -791,7 +791,7 @@ class MainWindow(QMainWindow):
         if ev is None:
             self.hints_view.set_hints(None, "Hints follow the exact fit.")
             self._schedule(None, [lambda: self.tests_panel.show_pending(label)],
-                           lambda pane: pane.clear(f"{label}: fitting…"))
+                           lambda pane: pane.cover(f"{label}: fitting…"))
             return
         token = (spec, ev.fit.kind)
         if token in (self.drawn, self._drawing):

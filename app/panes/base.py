@@ -346,6 +346,15 @@ class ResidualPane(QWidget):
     def clear(self, message: str) -> None:
         """Remove every drawn item and show ``message`` centred in the empty pane."""
         self._remove_items()
+        self.cover(message)
+
+    def cover(self, message: str) -> None:
+        """Hide the plot behind ``message`` at once, keeping its items until the next draw.
+
+        Cheaper than :meth:`clear` (no items are removed), for the moment
+        between a step and its first fit: nothing stale is visible, and the
+        next :meth:`show_evaluation` replaces the items anyway.
+        """
         self._set_preview_flag(False)
         self.set_status("")
         self.message_label.setText(message)
