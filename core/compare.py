@@ -44,17 +44,36 @@ from .spec import ModelSpec
 LR_NEGATIVE_TOLERANCE = 1e-6
 
 
+def preparation_differences(a: ModelSpec, b: ModelSpec) -> list[tuple[str, str, str]]:
+    """What differs in the preparation of two specs: ``(part, value in a, value in b)`` triples.
+
+    ``part`` is ``"transform"``, ``"d"``, ``"D"`` or ``"s"`` (the period only
+    matters with seasonal differencing). Empty when both model the same
+    prepared series.
+    """
+    out = []
+    if a.transform != b.transform:
+        out.append(("transform", a.transform.label, b.transform.label))
+    if a.d != b.d:
+        out.append(("d", str(a.d), str(b.d)))
+    if a.D != b.D:
+        out.append(("D", str(a.D), str(b.D)))
+    elif a.D and a.s != b.s:
+        out.append(("s", str(a.s), str(b.s)))
+    return out
+
+
+_DIFFERENCE_WORDS = {
+    "transform": "transform differs ({a} vs {b})",
+    "d": "ordinary differencing differs (d={a} vs d={b})",
+    "D": "seasonal differencing differs (D={a} vs D={b})",
+    "s": "the seasonal period differs (s={a} vs s={b})",
+}
+
+
 def comparability(a: ModelSpec, b: ModelSpec) -> str:
     """Why two specs' likelihoods cannot be compared, or ``""`` when they can."""
-    reasons = []
-    if a.transform != b.transform:
-        reasons.append(f"transform differs ({a.transform.label} vs {b.transform.label})")
-    if a.d != b.d:
-        reasons.append(f"ordinary differencing differs (d={a.d} vs d={b.d})")
-    if a.D != b.D:
-        reasons.append(f"seasonal differencing differs (D={a.D} vs D={b.D})")
-    elif a.D and a.s != b.s:
-        reasons.append(f"the seasonal period differs (s={a.s} vs s={b.s})")
+    reasons = [_DIFFERENCE_WORDS[part].format(a=va, b=vb) for part, va, vb in preparation_differences(a, b)]
     if not reasons:
         return ""
     return (

@@ -370,17 +370,11 @@ def transform_text(spec: ModelSpec) -> str:
 
 
 def preparation_differences(a: ModelSpec, b: ModelSpec) -> list[str]:
-    """What differs in the preparation of two specs, in short words."""
-    out = []
-    if a.transform != b.transform:
-        out.append(f"transform {a.transform.label} vs {b.transform.label}")
-    if a.d != b.d:
-        out.append(f"d = {a.d} vs {b.d}")
-    if a.D != b.D:
-        out.append(f"D = {a.D} vs {b.D}")
-    elif a.D and a.s != b.s:
-        out.append(f"s = {a.s} vs {b.s}")
-    return out
+    """What differs in the preparation of two specs, in short words (``"d = 0 vs 1"``)."""
+    from .compare import preparation_differences as parts
+
+    return [f"transform {va} vs {vb}" if part == "transform" else f"{part} = {va} vs {vb}"
+            for part, va, vb in parts(a, b)]
 
 
 def step_test_text(test: StepTest | None, parent: ModelSpec | None, spec: ModelSpec) -> tuple[str, str]:
