@@ -20,6 +20,7 @@ import itertools
 import multiprocessing
 import os
 import threading
+import time
 from concurrent.futures import Future, ProcessPoolExecutor, ThreadPoolExecutor
 from dataclasses import dataclass
 
@@ -55,14 +56,18 @@ class FitResponse:
     kind: str
     evaluation: Evaluation | None
     error: str = ""
+    #: Seconds the worker spent on the request (not counting queues or the window's own delay).
+    seconds: float = 0.0
 
 
 def run_request(request: FitRequest) -> FitResponse:
     """Run one request (in a worker thread or process); never raises."""
+    started = time.perf_counter()
     try:
         evaluation = evaluate(request.series, request.spec, kind=request.kind, parent=request.parent,
                               with_hints=request.kind == "exact")
-        return FitResponse(request.request_id, request.spec, request.kind, evaluation)
+        return FitResponse(request.request_id, request.spec, request.kind, evaluation,
+                           seconds=time.perf_counter() - started)
     except LagwrightError as exc:
         return FitResponse(request.request_id, request.spec, request.kind, None, str(exc))
     except Exception as exc:  # noqa: BLE001 - reported to the user, never a traceback

@@ -441,6 +441,8 @@ class TestsPanel(QWidget):
 
     # ------------------------------------------------------------ sections
     def _clear(self, label: str) -> None:
+        # Hidden sections are refilled far more cheaply than shown ones (their tables size
+        # their columns once, when shown again), so a redraw starts from here too.
         self._evaluation = None
         self.title_label.setText(label)
         self.status_label.hide()
@@ -473,7 +475,9 @@ class TestsPanel(QWidget):
             else:
                 text += "  —  main Ljung-Box, sign-change and periodogram checks pass at 5 %"
             self.verdict_label.setText(text)
-            self.verdict_label.setStyleSheet(banner_style(theme.VERDICT_COLOURS[verdict.label]))
+            style = banner_style(theme.VERDICT_COLOURS[verdict.label])
+            if self.verdict_label.styleSheet() != style:  # restyling costs a polish of the label
+                self.verdict_label.setStyleSheet(style)
         self.verdict_label.show()
 
     def _show_params(self, fit) -> None:

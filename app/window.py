@@ -72,6 +72,15 @@ SEASON_FOR_FREQUENCY = {"D": 7, "B": 5, "W": 52, "MS": 12, "ME": 12, "M": 12, "Q
 #: Neighbours whose state vector would be larger than this are not fitted ahead.
 PREFETCH_MAX_STATE = 40
 
+#: When this series' exact fits take the worker less than this many seconds,
+#: a step asks for the exact fit alone, and for a preview only if the exact
+#: fit has not come back this long after it was asked for. Computing, drawing
+#: and painting a preview takes a core and 50-100 ms of the window, which
+#: would only delay an exact fit due a moment later (bench/bench_window.py,
+#: n = 1,000: exact redraw 0.18-0.23 s with the preview drawn first). Slower
+#: fits get their preview at once.
+PREVIEW_HOLD = 0.1
+
 
 def _state_size(spec: ModelSpec) -> int:
     """Largest lag of the expanded AR or MA polynomial: the size of the ARMA state vector."""
@@ -119,6 +128,8 @@ class MainWindow(QMainWindow):
         super().__init__()
         self.prefetch = prefetch
         self._prefetched: set[ModelSpec] = set()
+        #: Seconds the worker spent on the latest exact fit of this series (None before the first).
+        self.exact_seconds: float | None = None
         self.setWindowTitle("Lagwright")
         self.resize(1500, 940)
         self.service = FitService(use_processes=use_processes, parent=self)
@@ -139,6 +150,9 @@ class MainWindow(QMainWindow):
         self._draw_timer.setSingleShot(True)
         self._draw_timer.setInterval(0)
         self._draw_timer.timeout.connect(self._draw_next)
+        self._late_timer = QTimer(self)
+        self._late_timer.setSingleShot(True)
+        self._late_timer.timeout.connect(self._exact_is_late)
         self._updating_note = False
         self._prepared_stale: ModelSpec | None = None
         self._compare_stale = False
@@ -368,6 +382,7 @@ class MainWindow(QMainWindow):
         self.failures.clear()
         self.latest.clear()
         self._prefetched.clear()
+        self.exact_seconds = None
         self.drawn = None
         self._drawing = None
         self.selection.clear()
@@ -651,12 +666,24 @@ class MainWindow(QMainWindow):
         if self.series is None or spec in self.failures:
             return
         ev = self.evaluations.get(spec)
-        if ev is None and (spec, "preview") not in self.latest:
-            self.latest[(spec, "preview")] = self.service.submit(self.series, spec, "preview")
+        quick = self.exact_seconds is not None and self.exact_seconds < PREVIEW_HOLD
         if (ev is None or ev.is_preview) and (spec, "exact") not in self.latest:
             parent_fit = self._parent_exact_fit(spec)
             self.latest[(spec, "exact")] = self.service.submit(self.series, spec, "exact", parent_fit)
+        if ev is None and (spec, "preview") not in self.latest:
+            if quick and draw:
+                self._late_timer.start(int(PREVIEW_HOLD * 1000))
+            else:
+                self.latest[(spec, "preview")] = self.service.submit(self.series, spec, "preview")
         self._update_busy()
+
+    def _exact_is_late(self) -> None:
+        """The exact fit of the candidate in view was expected by now: ask for its preview after all."""
+        spec = self.current_spec
+        if spec is None or self.series is None or spec in self.failures or spec in self.evaluations:
+            return
+        if (spec, "preview") not in self.latest:
+            self.latest[(spec, "preview")] = self.service.submit(self.series, spec, "preview")
 
     def neighbours(self, spec: ModelSpec) -> list[ModelSpec]:
         """Specs one step away from ``spec``: the next AR/MA (and seasonal) lag added, each lag dropped."""
@@ -702,6 +729,8 @@ class MainWindow(QMainWindow):
         if self.latest.get(key) != response.request_id:
             return  # a request from another series or superseded: never drawn
         spec = response.spec
+        if response.kind == "exact" and response.evaluation is not None:
+            self.exact_seconds = response.seconds
         if response.evaluation is None:
             if response.kind == "exact":
                 self.failures[spec] = response.error
@@ -816,7 +845,7 @@ class MainWindow(QMainWindow):
         self._draw_timer.start(0)
 
     #: Drawing jobs run back to back until this many seconds have passed in one turn.
-    DRAW_BUDGET = 0.02
+    DRAW_BUDGET = 0.045
 
     def _draw_next(self) -> None:
         started = time.perf_counter()

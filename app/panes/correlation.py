@@ -21,7 +21,7 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 
 from .. import theme
-from .base import PaneMessage, ResidualPane, make_brush, make_pen
+from .base import PaneMessage, ResidualPane, make_brush, make_pen, steady_limit
 
 #: Bar width in lags.
 BAR_WIDTH = 0.4
@@ -66,7 +66,7 @@ def draw_correlation_bars(
         plot.addItem(item)
     finite = values[np.isfinite(values)]
     lim = max(2.5 * band, float(np.max(np.abs(finite))) if finite.size else 0.0) * 1.12
-    lim = min(max(lim, 0.1), 1.05)
+    lim = min(steady_limit(max(lim, 0.1), 0.05), 1.05)
     plot.setYRange(-lim, lim, padding=0)
     plot.setXRange(0.4, nlags + 0.6, padding=0)
     return BarSet(bars, band_lines, zero, tuple(marks), np.flatnonzero(np.abs(values) > band) + 1)
@@ -98,8 +98,6 @@ class CorrelationPane(ResidualPane):
         self.acf_plot = self.add_plot(0, 0, y_label="autocorrelation")
         self.pacf_plot = self.add_plot(1, 0, x_label="lag", y_label="partial autocorrelation")
         self.pacf_plot.setXLink(self.acf_plot)
-        for plot in (self.acf_plot, self.pacf_plot):
-            plot.getAxis("left").setWidth(58)
         self._acf = self._pacf = None
         self.correlogram = None
 

@@ -23,7 +23,7 @@ import pyqtgraph as pg
 from scipy import stats
 
 from .. import theme
-from .base import PaneMessage, ResidualPane, indices_of, make_brush, make_pen
+from .base import PaneMessage, ResidualPane, indices_of, make_brush, make_pen, steady_limit
 
 #: Fewest and most bins the rule may give.
 MIN_BINS, MAX_BINS = 10, 60
@@ -96,7 +96,7 @@ class ResidualHistogramPane(ResidualPane):
 
         self.bars = pg.BarGraphItem(x0=edges[:-1], x1=edges[1:], height=density, pen=None, brush=None)
         self._restyle()
-        lim = max(4.0, float(np.max(np.abs(z))) * 1.05)
+        lim = steady_limit(max(4.0, float(np.max(np.abs(z))) * 1.05), 0.5)
         grid = np.linspace(-lim, lim, 401)
         self.normal_curve = pg.PlotDataItem(
             grid, stats.norm.pdf(grid), pen=make_pen(theme.REFERENCE, width=2), antialias=True
@@ -113,7 +113,7 @@ class ResidualHistogramPane(ResidualPane):
             self.plot.addItem(item)
         self.plot.setXRange(-lim, lim, padding=0)
         top = max(float(density.max()), float(stats.norm.pdf(0.0)))
-        self.plot.setYRange(-0.04 * top, top * 1.08, padding=0)
+        self.plot.setYRange(-0.04 * top, steady_limit(top * 1.08, 0.05), padding=0)
         self._tick_y = -0.02 * top
         self.set_status(f"n = {z.size}; {k} bins (Freedman-Diaconis); curve: N(0, 1) density")
 

@@ -55,7 +55,8 @@ class IdentificationPane(ResidualPane):
     )
 
     def _build(self) -> None:
-        self.trace_plot = self.add_plot(0, 0, colspan=2, x_label="observation", y_label="prepared value")
+        self.trace_plot = self.add_plot(0, 0, colspan=2, x_label="observation", y_label="prepared value",
+                                        left_width=None)
         self.acf_plot = self.add_plot(1, 0, x_label="lag", y_label="autocorrelation")
         self.pacf_plot = self.add_plot(1, 1, x_label="lag", y_label="partial autocorrelation")
         self.pacf_plot.setXLink(self.acf_plot)

@@ -33,12 +33,12 @@ from .. import theme
 from .base import (
     PaneMessage,
     ResidualPane,
-    add_fast_curve,
     indices_of,
     line_width,
     make_brush,
     make_pen,
     nearest_point,
+    steady_limit,
 )
 
 #: Largest number of ranks at which the envelope is evaluated.
@@ -140,6 +140,7 @@ class NormalQuantilePane(ResidualPane):
         self.order = np.empty(0, dtype=np.intp)
         self.rank_of = np.empty(0, dtype=np.intp)
         self.positions = np.empty(0, dtype=np.int64)
+        self._envelope_n = -1
 
     def _draw(self, evaluation, series) -> None:
         fit = evaluation.fit
@@ -156,39 +157,58 @@ class NormalQuantilePane(ResidualPane):
         self.theoretical, self.ordered, self.order, self.rank_of = theoretical, ordered, order, rank_of
 
         ranks, lower, upper = normal_envelope(n)
-        ex = theoretical[ranks - 1]
-        band_pen = make_pen(theme.BAND, width=1.2)
-        self.envelope_lower = pg.PlotDataItem(ex, lower, pen=band_pen, antialias=True)
-        self.envelope_upper = pg.PlotDataItem(ex, upper, pen=band_pen, antialias=True)
-        self.envelope_fill = pg.FillBetweenItem(
-            self.envelope_lower, self.envelope_upper, brush=make_brush(theme.BAND, 0.18)
-        )
+        kept = self.kept_items()
+        if self._envelope_n != n:  # the envelope depends on n alone: most steps keep it
+            ex = theoretical[ranks - 1]
+            kept["envelope_lower"].setData(ex, lower)
+            kept["envelope_upper"].setData(ex, upper)
+            self._envelope_n = n
         lim = max(float(np.max(np.abs(theoretical))), float(np.max(np.abs(ordered)))) * 1.05
-        self.reference_line = pg.PlotDataItem(
-            [-lim, lim], [-lim, lim], pen=make_pen(theme.REFERENCE, width=1.5), antialias=True
-        )
-        for item in (self.envelope_fill, self.envelope_lower, self.envelope_upper, self.reference_line):
-            self.plot.addItem(item)
+        kept["reference_line"].setData([-lim, lim], [-lim, lim])
+        kept["selected_item"].setData(x=[], y=[])
+        code = self.data_colour
         if n <= SYMBOL_LIMIT:
-            self.points = add_fast_curve(
-                self.plot, theoretical, ordered, None, symbol="o", symbolSize=5, symbolPen=None
-            )
+            self.points = kept["symbol_points"]
+            self.points.setData(theoretical, ordered, symbolBrush=make_brush(code, 0.8))  # one layout of the spots
         else:
+            self.points = kept["line_points"]
             keep = thin_monotone_curve(theoretical, ordered)
-            self.points = pg.PlotDataItem(theoretical[keep], ordered[keep], pen=None, antialias=True)
-            self.plot.addItem(self.points)
-        self._restyle()
-        self.selected_item = pg.ScatterPlotItem(
-            x=[], y=[], symbol="o", size=14, pen=make_pen(theme.ATTENTION, width=2.2), brush=None
-        )
-        self.plot.addItem(self.selected_item)
+            self.points.setData(theoretical[keep], ordered[keep], pen=make_pen(code, width=line_width(n, 2.0)))
+        self.points.setVisible(True)
+        self._reveal("envelope_lower", "envelope_upper", "envelope_fill", "reference_line", "selected_item")
         self.plot.setXRange(float(theoretical[0]) * 1.05, float(theoretical[-1]) * 1.05, padding=0)
         ylo, yhi = min(float(ordered[0]), float(lower[0])), max(float(ordered[-1]), float(upper[-1]))
         pad = 0.05 * (yhi - ylo)
-        self.plot.setYRange(ylo - pad, yhi + pad, padding=0)
+        self.plot.setYRange(-steady_limit(-(ylo - pad), 0.5), steady_limit(yhi + pad, 0.5), padding=0)
         outside = int(np.count_nonzero((ordered[ranks - 1] < lower) | (ordered[ranks - 1] > upper)))
         shown = "" if ranks.size == n else f" of {ranks.size} ranks"
         self.set_status(f"Blom positions; pointwise 95 % band; outside: {outside}{shown}")
+
+    def _make_kept_items(self) -> dict:
+        """Symbols for up to :data:`SYMBOL_LIMIT` points ("symbol_points"), a thinned line beyond
+        ("line_points"; one of the two is shown), the envelope, its fill, y = x and the selection."""
+        band_pen = make_pen(theme.BAND, width=1.2)
+        # No dynamic range limit: the view always holds the data, and the limit makes every
+        # change of the y range redo the items (the scatter's spots, the fill's path).
+        fixed = {"dynamicRangeLimit": None}
+        lower = pg.PlotDataItem([], [], pen=band_pen, antialias=True, **fixed)
+        upper = pg.PlotDataItem([], [], pen=band_pen, antialias=True, **fixed)
+        self._envelope_n = -1
+        return {self.plot: {
+            "envelope_fill": pg.FillBetweenItem(lower, upper, brush=make_brush(theme.BAND, 0.18)),
+            "envelope_lower": lower,
+            "envelope_upper": upper,
+            "reference_line": pg.PlotDataItem([], [], pen=make_pen(theme.REFERENCE, width=1.5), antialias=True,
+                                            **fixed),
+            "symbol_points": pg.PlotDataItem(
+                [], [], pen=None, symbol="o", symbolSize=5, symbolPen=None, symbolBrush=make_brush(theme.DATA, 0.8),
+                **fixed,
+            ),
+            "line_points": pg.PlotDataItem([], [], pen=make_pen(theme.DATA), antialias=True, **fixed),
+            "selected_item": pg.ScatterPlotItem(
+                x=[], y=[], symbol="o", size=14, pen=make_pen(theme.ATTENTION, width=2.2), brush=None
+            ),
+        }}
 
     def _restyle(self) -> None:
         if getattr(self, "points", None) is None:

@@ -57,7 +57,6 @@ class RootMapPane(ResidualPane):
     def _build(self) -> None:
         self.plot = self.add_plot(0, 0, x_label="real part", y_label="imaginary part")
         self.plot.getViewBox().setAspectLocked(True, ratio=1.0)
-        self.plot.getAxis("left").setWidth(52)
         self.inverse_box = QCheckBox("inverse roots (1/z)")
         self.inverse_box.setToolTip("Show 1/z: stationary and invertible roots then lie inside the circle.")
         self.inverse_box.toggled.connect(self._inverse_toggled)

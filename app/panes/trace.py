@@ -16,13 +16,14 @@ from .. import theme
 from .base import (
     PaneMessage,
     ResidualPane,
-    add_fast_curve,
+    THIN_LINE_POINTS,
     indices_of,
     line_width,
     make_brush,
     make_pen,
     nearest_point,
     observation_x,
+    steady_limit,
 )
 
 
@@ -81,33 +82,19 @@ class ResidualTracePane(ResidualPane):
             outliers = np.flatnonzero(np.abs(z) > threshold)
             expected = None
 
-        band_pen = make_pen(theme.BAND, width=1.2, style=Qt.PenStyle.DashLine)
-        label_opts = {
-            "position": 0.02, "anchors": [(0, 1), (0, 1)], "color": theme.BAND,
-            "fill": make_brush(self.colours.background, 0.85),  # readable over a dense trace
-        }
-        self.zero_line = pg.InfiniteLine(0.0, angle=0, pen=make_pen(theme.REFERENCE, width=1, alpha=0.7))
-        self.upper_line = pg.InfiniteLine(2.0, angle=0, pen=band_pen, label="+2σ", labelOpts=label_opts)
-        self.lower_line = pg.InfiniteLine(
-            -2.0, angle=0, pen=band_pen, label="−2σ", labelOpts={**label_opts, "anchors": [(0, 0), (0, 0)]}
-        )
-        self.outlier_item = pg.ScatterPlotItem(
-            x=x[outliers], y=z[outliers], symbol="d", size=9,
-            pen=make_pen(theme.ATTENTION, width=1), brush=make_brush(theme.ATTENTION),
-        )
-        self.selected_item = pg.ScatterPlotItem(
-            x=[], y=[], symbol="o", size=15, pen=make_pen(theme.ATTENTION, width=2.2), brush=None,
-        )
-        pen = make_pen(self.data_colour, width=line_width(z.size, 1.3))
-        self.curve = add_fast_curve(self.plot, x, z, pen)
-        # The lines go above the data: a dense trace would hide them.
-        for item in (self.zero_line, self.upper_line, self.lower_line):
-            self.plot.addItem(item)
-        self.plot.addItem(self.outlier_item)
-        self.plot.addItem(self.selected_item)
-
+        kept = self.kept_items()
+        self.curve = kept["curve"]
+        self.curve.setData(x, z, pen=make_pen(self.data_colour, width=line_width(z.size, 1.3)),
+                           antialias=z.size <= THIN_LINE_POINTS)
+        # switched on once the item is in the view (see add_fast_curve)
+        self.curve.setDownsampling(auto=True, method="peak")
+        self.curve.setClipToView(True)
+        self.curve.setVisible(True)
+        kept["outlier_item"].setData(x=x[outliers], y=z[outliers])
+        kept["selected_item"].setData(x=[], y=[])
+        self._reveal("zero_line", "upper_line", "lower_line", "outlier_item", "selected_item")
         self.outlier_indices = outliers
-        lim = max(3.5, float(np.max(np.abs(z))) * 1.08)
+        lim = steady_limit(max(3.5, float(np.max(np.abs(z))) * 1.08), 0.5)
         self.plot.setYRange(-lim, lim, padding=0)
         self.plot.setXRange(float(x[0]), float(x[-1]), padding=0.01)
         text = f"n = {z.size}; {outliers.size} beyond ±{threshold:g}σ"
@@ -115,9 +102,36 @@ class ResidualTracePane(ResidualPane):
             text += f" (about {expected:.1f} expected by chance)"
         self.set_status(text)
 
+    def _make_kept_items(self) -> dict:
+        band_pen = make_pen(theme.BAND, width=1.2, style=Qt.PenStyle.DashLine)
+        label_opts = {
+            "position": 0.02, "anchors": [(0, 1), (0, 1)], "color": theme.BAND,
+            "fill": make_brush(self.colours.background, 0.85),  # readable over a dense trace
+        }
+        return {self.plot: {
+            "curve": pg.PlotDataItem([], [], pen=make_pen(theme.DATA), connect="all"),
+            # The lines go above the data: a dense trace would hide them.
+            "zero_line": pg.InfiniteLine(0.0, angle=0, pen=make_pen(theme.REFERENCE, width=1, alpha=0.7)),
+            "upper_line": pg.InfiniteLine(2.0, angle=0, pen=band_pen, label="+2σ", labelOpts=label_opts),
+            "lower_line": pg.InfiniteLine(
+                -2.0, angle=0, pen=band_pen, label="−2σ", labelOpts={**label_opts, "anchors": [(0, 0), (0, 0)]}
+            ),
+            "outlier_item": pg.ScatterPlotItem(
+                x=[], y=[], symbol="d", size=9, pen=make_pen(theme.ATTENTION, width=1),
+                brush=make_brush(theme.ATTENTION),
+            ),
+            "selected_item": pg.ScatterPlotItem(
+                x=[], y=[], symbol="o", size=15, pen=make_pen(theme.ATTENTION, width=2.2), brush=None,
+            ),
+        }}
+
     def _restyle(self) -> None:
         if getattr(self, "curve", None) is not None:
             self.curve.setPen(make_pen(self.data_colour, width=line_width(self.z.size, 1.3)))
+        for line in (self._kept or {}).get("upper_line"), (self._kept or {}).get("lower_line"):
+            if line is not None:  # the labels' backing follows the theme
+                line.label.fill = make_brush(self.colours.background, 0.85)
+                line.label.update()
 
     # ------------------------------------------------------------ selection
     def _highlight(self, positions: tuple[int, ...]) -> None:

@@ -496,7 +496,8 @@ def test_a_failed_fit_clears_the_pane_and_shows_why(qtbot, cls, series, exact_ev
     assert pane.is_showing_message
     assert pane.message == "Fit failed: the likelihood could not be evaluated (test)."
     assert all(item is None for item in pane.data_items().values())
-    assert all(not plot.items for plot in pane.plots())
+    # nothing stale stays visible (a pane may keep hidden items to reuse them)
+    assert not [item for plot in pane.plots() for item in plot.items if item.isVisible()]
     assert not pane.preview_badge.isVisibleTo(pane)
     pane.show_evaluation(exact_ev, series)  # and it draws again afterwards
     assert not pane.is_showing_message and pane.message == ""
@@ -514,7 +515,7 @@ def test_clear_shows_a_plain_message(qtbot, series, exact_ev):
     pane.show_evaluation(exact_ev, series)
     pane.clear("fitting…")
     assert pane.is_showing_message and pane.message_label.text() == "fitting…"
-    assert pane.curve is None and not pane.plot.items
+    assert pane.curve is None and not [item for item in pane.plot.items if item.isVisible()]
 
 
 # ---------------------------------------------------------- theme and budget

@@ -110,6 +110,73 @@ def test_stale_fit_is_never_drawn(water_window, qtbot, monkeypatch):
     assert w.current_spec == root_spec
 
 
+def _record_requests(window, monkeypatch):
+    kinds = []
+    original = window.service.submit
+
+    def submit(series, spec, kind, parent=None):
+        kinds.append((spec, kind))
+        return original(series, spec, kind, parent)
+
+    monkeypatch.setattr(window.service, "submit", submit)
+    return kinds
+
+
+def test_quick_exact_fits_are_drawn_without_a_preview(water_window, qtbot, monkeypatch):
+    # When this series' exact fits take the worker less than PREVIEW_HOLD, a step asks
+    # for the exact fit alone: a preview would only hold the window up.
+    from lagwright.app.window import PREVIEW_HOLD
+
+    w = water_window
+    requests = _record_requests(w, monkeypatch)
+    drawn = []
+    w.candidate_drawn.connect(drawn.append)
+    w.exact_seconds = PREVIEW_HOLD / 10
+    w.add_term("ar", 1)
+    wait_exact(qtbot, w)
+    assert (w.current_spec, "exact") in requests and (w.current_spec, "preview") not in requests
+    assert drawn == ["exact"] and not w.trace_pane.is_preview
+
+
+def test_slow_exact_fits_show_a_preview_first(water_window, qtbot, monkeypatch):
+    w = water_window
+    requests = _record_requests(w, monkeypatch)
+    w.exact_seconds = 5.0
+    w.add_term("ar", 1)
+    wait_exact(qtbot, w)
+    assert (w.current_spec, "preview") in requests and (w.current_spec, "exact") in requests
+
+
+def test_a_late_exact_fit_gets_its_preview_after_all(water_window, qtbot, monkeypatch):
+    # Exact fits were quick, but this one takes longer than PREVIEW_HOLD: the preview is
+    # asked for then and drawn, and the exact fit replaces it when it arrives.
+    import time
+
+    from lagwright.app import fit_service
+    from lagwright.app.window import PREVIEW_HOLD
+
+    original = fit_service.run_request
+
+    def slow_exact(request):
+        if request.kind == "exact":
+            time.sleep(PREVIEW_HOLD * 6)
+        return original(request)
+
+    monkeypatch.setattr(fit_service, "run_request", slow_exact)
+    w = water_window
+    requests = _record_requests(w, monkeypatch)
+    drawn = []
+    w.candidate_drawn.connect(drawn.append)
+    w.exact_seconds = PREVIEW_HOLD / 10
+    w.add_term("ar", 1)
+    assert (w.current_spec, "preview") not in requests
+    qtbot.waitUntil(lambda: "preview" in drawn, timeout=TIMEOUT)
+    assert (w.current_spec, "preview") in requests and w.trace_pane.is_preview
+    wait_exact(qtbot, w)
+    qtbot.waitUntil(lambda: "exact" in drawn, timeout=TIMEOUT)
+    assert drawn == ["preview", "exact"] and not w.trace_pane.is_preview
+
+
 def test_compare_view_shows_both(water_window, qtbot):
     w = water_window
     w.add_term("ar", 1)
