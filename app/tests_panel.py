@@ -91,12 +91,14 @@ class SectionTable(QTableWidget):
         self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAsNeeded)
         self.setSizePolicy(QSizePolicy.Policy.Maximum, QSizePolicy.Policy.Fixed)
         self._keys: list[str] = []
+        self._size_cache: tuple[tuple, QSize] | None = None
 
     # ---------------------------------------------------------- contents
     def fill(self, rows: list[tuple[str, list[Cell]]]) -> None:
         """Replace all rows; each row is ``(key, cells)``."""
         self.clearContents()
         self.setRowCount(len(rows))
+        self._size_cache = None
         self._keys = [key for key, _ in rows]
         bold = QFont(self.font())
         bold.setBold(True)
@@ -115,6 +117,7 @@ class SectionTable(QTableWidget):
                     item.setData(KEY_ROLE, key)
                 self.setItem(r, c, item)
         self.resizeColumnsToContents()
+        self._size_cache = None
         self.updateGeometry()
 
     def clear_rows(self) -> None:
@@ -137,11 +140,19 @@ class SectionTable(QTableWidget):
 
     # ------------------------------------------------------------ sizing
     def _content_size(self) -> QSize:
+        # Asked for many times per layout pass; measuring the columns means laying out their text,
+        # so the answer is kept until the rows, the hidden columns or the font change.
+        key = (self.rowCount(), tuple(self.isColumnHidden(c) for c in range(self.columnCount())),
+               self.font().key())
+        if self._size_cache is not None and self._size_cache[0] == key:
+            return self._size_cache[1]
         header = self.horizontalHeader()
         width = sum(self.columnWidth(c) for c in range(self.columnCount()) if not self.isColumnHidden(c))
         rows = sum(self.rowHeight(r) for r in range(self.rowCount()))
         frame = 2 * self.frameWidth()
-        return QSize(width + frame, rows + header.sizeHint().height() + frame)
+        size = QSize(width + frame, rows + header.sizeHint().height() + frame)
+        self._size_cache = (key, size)
+        return size
 
     def _height(self, content: QSize) -> int:
         squeezed = self.isVisible() and self.width() < content.width()

@@ -94,28 +94,39 @@ class ResidualHistogramPane(ResidualPane):
         density = counts / (z.size * widths)
         self.edges, self.counts, self.density, self.bin_of = edges, counts, density, bin_of
 
-        self.bars = pg.BarGraphItem(x0=edges[:-1], x1=edges[1:], height=density, pen=None, brush=None)
-        self._restyle()
+        kept = self.kept_items()
+        kept["bars"].setOpts(x0=edges[:-1], x1=edges[1:], height=density)
         lim = steady_limit(max(4.0, float(np.max(np.abs(z))) * 1.05), 0.5)
-        grid = np.linspace(-lim, lim, 401)
-        self.normal_curve = pg.PlotDataItem(
-            grid, stats.norm.pdf(grid), pen=make_pen(theme.REFERENCE, width=2), antialias=True
-        )
-        self.selected_bars = pg.BarGraphItem(
-            x0=[], x1=[], height=[],
-            pen=make_pen(theme.ATTENTION, width=1.5), brush=make_brush(theme.ATTENTION, 0.55),
-        )
-        self.selected_ticks = pg.ScatterPlotItem(
-            x=[], y=[], symbol="t1", size=11,
-            pen=make_pen(theme.ATTENTION, width=1), brush=make_brush(theme.ATTENTION),
-        )
-        for item in (self.bars, self.selected_bars, self.normal_curve, self.selected_ticks):
-            self.plot.addItem(item)
+        if self._curve_lim != lim:
+            grid = np.linspace(-lim, lim, 401)
+            kept["normal_curve"].setData(grid, stats.norm.pdf(grid))
+            self._curve_lim = lim
+        kept["selected_bars"].setOpts(x0=[], x1=[], height=[])
+        kept["selected_ticks"].setData(x=[], y=[])
+        self._reveal("bars", "selected_bars", "normal_curve", "selected_ticks")
+        self._restyle()
         self.plot.setXRange(-lim, lim, padding=0)
         top = max(float(density.max()), float(stats.norm.pdf(0.0)))
         self.plot.setYRange(-0.04 * top, steady_limit(top * 1.08, 0.05), padding=0)
         self._tick_y = -0.02 * top
         self.set_status(f"n = {z.size}; {k} bins (Freedman-Diaconis); curve: N(0, 1) density")
+
+    def _make_kept_items(self) -> dict:
+        self._curve_lim = None
+        return {self.plot: {
+            "bars": pg.BarGraphItem(x0=[], x1=[], height=[], pen=None, brush=None),
+            "selected_bars": pg.BarGraphItem(
+                x0=[], x1=[], height=[],
+                pen=make_pen(theme.ATTENTION, width=1.5), brush=make_brush(theme.ATTENTION, 0.55),
+            ),
+            "normal_curve": pg.PlotDataItem(
+                [], [], pen=make_pen(theme.REFERENCE, width=2), antialias=True, dynamicRangeLimit=None
+            ),
+            "selected_ticks": pg.ScatterPlotItem(
+                x=[], y=[], symbol="t1", size=11,
+                pen=make_pen(theme.ATTENTION, width=1), brush=make_brush(theme.ATTENTION),
+            ),
+        }}
 
     def _restyle(self) -> None:
         if getattr(self, "bars", None) is not None:
