@@ -83,18 +83,36 @@ class _Attempt:
         )
 
 
-def arma_model(w: np.ndarray, spec: ModelSpec, concentrate_scale: bool = True):
+def exog_frame(prepared: PreparedSeries):
+    """The prepared intervention regressors as a named frame for statsmodels, or ``None``."""
+    if prepared.exog is None:
+        return None
+    import pandas as pd
+
+    return pd.DataFrame(np.asarray(prepared.regressors), columns=list(prepared.regressor_names))
+
+
+def prepared_model(prepared: PreparedSeries, spec: ModelSpec, concentrate_scale: bool = True):
+    """:func:`arma_model` of a prepared series, its intervention regressors included."""
+    return arma_model(np.asarray(prepared.values), spec, concentrate_scale, exog_frame(prepared))
+
+
+def arma_model(w: np.ndarray, spec: ModelSpec, concentrate_scale: bool = True, exog=None):
     """statsmodels' state-space ARIMA for the ARMA part of ``spec`` on the prepared series ``w``.
 
     The differencing is already in ``w`` (see :mod:`lagwright.core.prepare`),
     so the model has d = D = 0 and a stationary initial state; its parameter
     names are those of :func:`lagwright.core.polynomials.param_names`.
+    ``exog`` holds the differenced intervention regressors as a frame whose
+    column names are the interventions' parameter names (see
+    :func:`exog_frame`): the model is then a regression with ARMA errors.
     """
     from statsmodels.tsa.arima.model import ARIMA  # heavy import: keep it off start-up paths
 
     seasonal = bool(spec.sar or spec.sma)
     return ARIMA(
         w,
+        exog=exog,
         order=(list(spec.ar) or 0, 0, list(spec.ma) or 0),
         seasonal_order=(list(spec.sar) or 0, 0, list(spec.sma) or 0, spec.s if seasonal else 0),
         trend="c" if spec.has_constant else "n",
@@ -114,7 +132,7 @@ def maximised_loglik(series: Series, spec: ModelSpec, maxiter: int = 200) -> tup
     prepared = prepare(series, spec)
     if spec.n_params >= prepared.n_observed - 1:
         return math.nan, False, "too many parameters for the data"
-    model = arma_model(np.asarray(prepared.values), spec)
+    model = prepared_model(prepared, spec)
     attempts = []
     for strategy in ("css", "default"):
         try:
@@ -143,7 +161,7 @@ def exact_loglik_at(series: Series, spec: ModelSpec, params: dict) -> float:
     the preview's estimates (NaN when they are not stationary and invertible).
     """
     prepared = prepare(series, spec)
-    model = arma_model(np.asarray(prepared.values), spec)
+    model = prepared_model(prepared, spec)
     vector = np.array([params.get(name, 0.0) for name in model.param_names])
     if not _valid_start(model, vector):
         return math.nan
@@ -260,7 +278,7 @@ def fit_exact(
             "after differencing: drop terms or use a longer series.",
             elapsed=time.perf_counter() - started,
         )
-    model = arma_model(np.asarray(prepared.values), spec)
+    model = prepared_model(prepared, spec)
 
     order = [start] + [s for s in START_STRATEGIES if s != start]
     plan = [(strategy, "lbfgs") for strategy in order] + [("default", "nm"), ("default", "powell")]

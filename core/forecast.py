@@ -33,9 +33,10 @@ import numpy as np
 from scipy import stats
 
 from .errors import InputError, LagwrightError
-from .fit import arma_model, fit_exact
+from .fit import fit_exact, prepared_model
+from .interventions import regressors
 from .polynomials import expanded_polynomials
-from .prepare import apply_transform, invert_transform, prepare
+from .prepare import apply_transform, difference, invert_transform, prepare
 from .result import Fit
 from .series import Series
 from .spec import ModelSpec, Transform
@@ -133,7 +134,7 @@ def forecast(series: Series, fit: Fit, horizon: int, back_transform: str = "medi
             f"The last {lost} values of '{series.name}' must be observed to integrate the forecasts; "
             "fill or drop the missing values at the end of the series."
         )
-    w_mean = _arma_forecast(np.asarray(prepared.values), spec, params, horizon)
+    w_mean = _arma_forecast(prepared, len(series), spec, params, horizon)
     delta = differencing_polynomial(spec.d, spec.D, spec.s)
     history = list(z[-(delta.size - 1):]) if delta.size > 1 else []
     mean = np.empty(horizon)
@@ -156,16 +157,24 @@ def forecast(series: Series, fit: Fit, horizon: int, back_transform: str = "medi
                     back_transform)
 
 
-def _arma_forecast(w: np.ndarray, spec: ModelSpec, params: dict, horizon: int) -> np.ndarray:
-    """Exact ARMA forecasts of the differenced series (Kalman filter with the given estimates)."""
+def _arma_forecast(prepared, n: int, spec: ModelSpec, params: dict, horizon: int) -> np.ndarray:
+    """Exact ARMA forecasts of the differenced series (Kalman filter with the given estimates).
+
+    Interventions continue into the future as they are: a pulse is over, a
+    level shift stays; their regressors are differenced like the series.
+    """
     import warnings
 
-    model = arma_model(w, spec, concentrate_scale=False)
+    model = prepared_model(prepared, spec, concentrate_scale=False)
     vector = np.array([params[name] for name in model.param_names])
+    future = None
+    if spec.interventions:
+        x = regressors(spec, n, future=horizon)
+        future = np.column_stack([difference(x[:, j], spec.d, spec.D, spec.s)[-horizon:] for j in range(x.shape[1])])
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         res = model.filter(vector)
-        return np.asarray(res.forecast(horizon), dtype=float)
+        return np.asarray(res.forecast(horizon, exog=future), dtype=float)
 
 
 @dataclass(frozen=True, eq=False)
@@ -315,7 +324,7 @@ def one_step_errors(series: Series, spec: ModelSpec, holdout_size: int) -> np.nd
     fit = fit_exact(train, spec)
     if not fit.ok:
         raise InputError(f"{spec.label} could not be fitted without the holdout: {fit.failure}")
-    model = arma_model(np.asarray(prepare(series, spec).values), spec, concentrate_scale=False)
+    model = prepared_model(prepare(series, spec), spec, concentrate_scale=False)
     params = fit.param_dict
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")

@@ -35,8 +35,9 @@ CANCELLATION_DISTANCE = 0.1
 
 
 def param_names(spec: ModelSpec) -> tuple[str, ...]:
-    """Parameter names in statsmodels' order: const, ar.L*, ma.L*, ar.S.L*, ma.S.L*, sigma2."""
+    """Parameter names in statsmodels' order: const, interventions, ar.L*, ma.L*, ar.S.L*, ma.S.L*, sigma2."""
     names = ["const"] if spec.has_constant else []
+    names += [item.name for item in spec.interventions]
     names += [f"ar.L{lag}" for lag in spec.ar]
     names += [f"ma.L{lag}" for lag in spec.ma]
     names += [f"ar.S.L{lag * spec.s}" for lag in spec.sar]

@@ -27,6 +27,7 @@ import numpy as np
 from scipy import stats
 
 from .errors import InputError
+from .interventions import check_interventions, differenced_regressors
 from .series import MIN_OBSERVATIONS, Series
 from .spec import ModelSpec, Transform
 
@@ -45,6 +46,11 @@ class PreparedSeries:
         observations lost to differencing.
     transform : Transform
     d, D, s : int
+    regressors : numpy.ndarray
+        The intervention regressors differenced like the series, one column
+        per intervention of the spec (shape ``(len(values), 0)`` without).
+    regressor_names : tuple of str
+        Their parameter names (``pulse.t37``, ``level.t81``).
     """
 
     values: np.ndarray
@@ -53,6 +59,13 @@ class PreparedSeries:
     d: int
     D: int
     s: int
+    regressors: np.ndarray | None = None
+    regressor_names: tuple[str, ...] = ()
+
+    @property
+    def exog(self) -> np.ndarray | None:
+        """The regressors, or ``None`` when there are none (as statsmodels takes them)."""
+        return self.regressors if self.regressors is not None and self.regressors.shape[1] else None
 
     @property
     def n_observed(self) -> int:
@@ -159,4 +172,8 @@ def prepare(series: Series, spec: ModelSpec) -> PreparedSeries:
             "removed all variation. Use less differencing."
         )
     w.setflags(write=False)
-    return PreparedSeries(values=w, offset=lost, transform=spec.transform, d=spec.d, D=spec.D, s=spec.s)
+    check_interventions(spec, len(series), series.name)
+    x = differenced_regressors(spec, len(series))
+    x.setflags(write=False)
+    return PreparedSeries(values=w, offset=lost, transform=spec.transform, d=spec.d, D=spec.D, s=spec.s,
+                          regressors=x, regressor_names=tuple(i.name for i in spec.interventions))

@@ -51,19 +51,25 @@ def _fill_missing(w: np.ndarray) -> tuple[np.ndarray, int]:
 class _CssProblem:
     """Residuals and their Jacobian for one spec on one prepared series."""
 
-    def __init__(self, spec: ModelSpec, w: np.ndarray):
+    def __init__(self, spec: ModelSpec, w: np.ndarray, regressors: np.ndarray | None = None):
         self.spec = spec
         self.w = w
         self.names = param_names(spec)[:-1]  # sigma2 is not a CSS parameter
+        self.exog_names = tuple(item.name for item in spec.interventions)
+        self.x = np.zeros((w.size, 0)) if regressors is None else np.asarray(regressors, dtype=float)
         self.p_star = max(spec.ar, default=0) + max(spec.sar, default=0) * spec.s
         if w.size - self.p_star < 2 * len(self.names) + 2:
             raise LagwrightError(
                 f"The series is too short for a model with AR lags reaching {self.p_star}."
             )
 
-    def _unpack(self, theta: np.ndarray) -> tuple[dict[str, float], float]:
+    def _unpack(self, theta: np.ndarray) -> tuple[dict[str, float], float | np.ndarray]:
+        """ARMA coefficients by name, and the mean function (constant plus regression) of ``w``."""
         values = dict(zip(self.names, theta))
         mu = values.pop("const", 0.0)
+        if self.exog_names:
+            beta = np.array([values.pop(name) for name in self.exog_names])
+            mu = mu + self.x @ beta
         return values, mu
 
     def residuals(self, theta: np.ndarray) -> np.ndarray:
@@ -98,6 +104,11 @@ class _CssProblem:
             if name == "const":
                 # d z / d mu = -ar(1): a constant column
                 columns.append(np.full(n_e, -ar.sum()))
+                continue
+            if name in self.exog_names:
+                # d z / d beta_j = -ar(B) x_j: the regressor filtered like the series
+                xj = self.x[:, self.exog_names.index(name)]
+                columns.append(-(np.convolve(xj, ar, mode="valid") if ar.size > 1 else xj.copy()))
                 continue
             if name.startswith("ar."):
                 lag = int(name.rsplit("L", 1)[1])
@@ -140,8 +151,13 @@ def css_estimate(spec: ModelSpec, prepared: PreparedSeries) -> tuple[dict[str, f
         ``converged``, ``message``, ``iterations``, ``jacobian``, ``filled``.
     """
     w, filled = _fill_missing(np.asarray(prepared.values, dtype=float))
-    problem = _CssProblem(spec, w)
+    problem = _CssProblem(spec, w, prepared.regressors)
     theta0 = np.array([float(np.mean(w)) if n == "const" else 0.0 for n in problem.names])
+    if problem.exog_names:  # the regression part starts at its least-squares fit, the ARMA part at zero
+        design = problem.x if not spec.has_constant else np.column_stack([np.ones(w.size), problem.x])
+        beta = np.linalg.lstsq(design, w, rcond=None)[0]
+        for name, value in zip(("const",) * spec.has_constant + problem.exog_names, beta):
+            theta0[problem.names.index(name)] = value
     if theta0.size:
         result = optimize.least_squares(
             problem.residuals, theta0, jac=problem.jacobian, method="lm", x_scale="jac"

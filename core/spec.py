@@ -32,6 +32,7 @@ ConstantKind = Literal["none", "mean", "drift"]
 TERM_KINDS: tuple[str, ...] = ("ar", "ma", "sar", "sma")
 CONSTANT_KINDS: tuple[str, ...] = ("none", "mean", "drift")
 TRANSFORM_KINDS: tuple[str, ...] = ("none", "log", "boxcox")
+INTERVENTION_KINDS: tuple[str, ...] = ("pulse", "level")
 
 #: Largest lag accepted for any term (in units of the period for seasonal terms).
 MAX_LAG = 2000
@@ -76,6 +77,59 @@ class Transform:
         return self.kind
 
 
+@dataclass(frozen=True, order=True)
+class Intervention:
+    """A known event at one observation, modelled by a regressor (regression with ARIMA errors).
+
+    Attributes
+    ----------
+    position : int
+        0-based position of the observation in the series.
+    kind : {"pulse", "level"}
+        ``"pulse"``: 1 at ``position``, 0 elsewhere (an additive outlier, a
+        one-off effect); ``"level"``: 0 before ``position`` and 1 from it on
+        (a level shift). Both act on the transformed scale, so after a log
+        transform their effect is proportional (Box & Tiao, 1975; Chen &
+        Liu, 1993).
+    """
+
+    position: int
+    kind: str = "pulse"
+
+    def __post_init__(self) -> None:
+        if self.kind not in INTERVENTION_KINDS:
+            raise SpecError(f"Unknown intervention '{self.kind}'; choose one of {', '.join(INTERVENTION_KINDS)}.")
+        value = self.position
+        if isinstance(value, bool) or int(value) != value or value < 0:
+            raise SpecError(f"An intervention's position must be a whole number of 0 or more, not {value!r}.")
+        object.__setattr__(self, "position", int(value))
+
+    @property
+    def name(self) -> str:
+        """Parameter name: ``pulse.t37`` or ``level.t37`` (observation number, counting from 1)."""
+        return f"{self.kind}.t{self.position + 1}"
+
+    @property
+    def label(self) -> str:
+        """Short human label: ``pulse at obs. 37`` or ``level shift at obs. 37``."""
+        what = "pulse" if self.kind == "pulse" else "level shift"
+        return f"{what} at obs. {self.position + 1}"
+
+
+def _intervention_set(values) -> tuple[Intervention, ...]:
+    items = []
+    for value in values:
+        if isinstance(value, Intervention):
+            items.append(value)
+        elif isinstance(value, dict):
+            items.append(Intervention(value.get("position", -1), value.get("kind", "pulse")))
+        else:
+            raise SpecError(f"An intervention must be given as kind and position, not {value!r}.")
+    if len(set(items)) != len(items):
+        raise SpecError("The same intervention appears twice.")
+    return tuple(sorted(items))
+
+
 def _lag_set(values, kind: str) -> tuple[int, ...]:
     lags = []
     for value in values:
@@ -117,6 +171,9 @@ class ModelSpec:
         when d + D = 1 (a linear trend in the levels). Higher orders of
         differencing take no constant: it would be a polynomial trend of
         degree two or more, which is rarely meant.
+    interventions : tuple of Intervention
+        Pulse and level-shift regressors; the model is then a regression on
+        them with ARIMA errors, differenced like the series.
     """
 
     ar: tuple[int, ...] = ()
@@ -128,10 +185,12 @@ class ModelSpec:
     s: int = 0
     transform: Transform = Transform()
     constant: str = "none"
+    interventions: tuple[Intervention, ...] = ()
 
     def __post_init__(self) -> None:
         for kind in TERM_KINDS:
             object.__setattr__(self, kind, _lag_set(getattr(self, kind), kind))
+        object.__setattr__(self, "interventions", _intervention_set(self.interventions))
         for name in ("d", "D", "s"):
             value = getattr(self, name)
             if isinstance(value, bool) or int(value) != value or value < 0:
@@ -189,8 +248,8 @@ class ModelSpec:
 
     @property
     def n_coefficients(self) -> int:
-        """ARMA coefficients plus the constant: the coefficients of the mean function and noise model."""
-        return self.n_arma_coefficients + int(self.has_constant)
+        """ARMA coefficients, the constant and the intervention effects."""
+        return self.n_arma_coefficients + int(self.has_constant) + len(self.interventions)
 
     @property
     def n_params(self) -> int:
@@ -221,6 +280,7 @@ class ModelSpec:
         if (other.sar or other.sma) and self.s != other.s:
             return False
         contained = all(set(other.lags(k)) <= set(self.lags(k)) for k in TERM_KINDS)
+        contained = contained and set(other.interventions) <= set(self.interventions)
         constant_ok = other.constant == "none" or other.constant == self.constant
         return contained and constant_ok
 
@@ -256,6 +316,11 @@ class ModelSpec:
         text = self.label
         if self.has_constant:
             text += f" + {self.constant}"
+        if self.interventions:
+            if len(self.interventions) <= 2:
+                text += "".join(f" + {i.kind} t{i.position + 1}" for i in self.interventions)
+            else:
+                text += f" + {len(self.interventions)} interventions"
         if self.transform.kind != "none":
             text += f", {self.transform.label}"
         return text
@@ -282,6 +347,20 @@ class ModelSpec:
         current = self.lags(kind)
         return (max(current) + 1) if current else 1
 
+    def with_intervention(self, kind: str, position: int) -> ModelSpec:
+        """Return a new spec with a pulse or level-shift regressor at ``position`` (0-based)."""
+        item = Intervention(position, kind)
+        if item in self.interventions:
+            raise SpecError(f"The model already has a {item.label}.")
+        return replace(self, interventions=self.interventions + (item,))
+
+    def without_intervention(self, kind: str, position: int) -> ModelSpec:
+        """Return a new spec without the intervention of ``kind`` at ``position``."""
+        item = Intervention(position, kind)
+        if item not in self.interventions:
+            raise SpecError(f"The model has no {item.label} to drop.")
+        return replace(self, interventions=tuple(i for i in self.interventions if i != item))
+
     def with_constant(self, constant: str) -> ModelSpec:
         """Return a new spec with the constant set to ``"none"``, ``"mean"`` or ``"drift"``."""
         return replace(self, constant=constant)
@@ -304,6 +383,7 @@ class ModelSpec:
             "transform": self.transform.kind,
             "lambda": self.transform.lam,
             "constant": self.constant,
+            "interventions": [{"kind": i.kind, "position": i.position} for i in self.interventions],
         }
 
     @classmethod
@@ -322,6 +402,7 @@ class ModelSpec:
                 s=data.get("s", 0),
                 transform=Transform(data.get("transform", "none"), data.get("lambda")),
                 constant=data.get("constant", "none"),
+                interventions=tuple(data.get("interventions", ()) or ()),
             )
         except TypeError as exc:
             raise SpecError(f"A model specification is malformed: {exc}.") from None

@@ -1,0 +1,140 @@
+"""Interventions: pulse and level-shift regressors, a regression with ARIMA errors.
+
+References used here: statsmodels' SARIMAX with the same regressors on the
+undifferenced series (a general-purpose reference library; it differences
+inside the state vector, we difference explicitly), and the textbook
+identities of the differenced regressors (Box & Tiao, 1975).
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy import signal
+
+from lagwright.core.errors import InputError, SpecError
+from lagwright.core.evaluate import evaluate
+from lagwright.core.fit import fit_exact
+from lagwright.core.forecast import forecast
+from lagwright.core.interventions import differenced_regressors, regressors
+from lagwright.core.series import Series
+from lagwright.core.spec import Intervention, ModelSpec
+
+
+def _sarimax(y, exog, order):
+    from statsmodels.tsa.statespace.sarimax import SARIMAX
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return SARIMAX(y, exog=exog, order=order).fit(disp=0)
+
+
+def _events(n, pulse, level):
+    t = np.arange(n)
+    return pd.DataFrame({"pulse": (t == pulse).astype(float), "level": (t >= level).astype(float)})
+
+
+@pytest.fixture
+def ar1_with_events():
+    # Invented: an AR(1) around 20 with a one-off jump of 6 at t = 100 and a lasting rise of 3 from t = 200.
+    rng = np.random.default_rng(3)
+    n = 300
+    y = signal.lfilter([1.0], [1.0, -0.6], rng.standard_normal(n)) + 20.0
+    y[100] += 6.0
+    y[200:] += 3.0
+    return Series(y, name="invented sensor with events")
+
+
+def test_regression_with_ar_errors_matches_sarimax(ar1_with_events):
+    # Reference: statsmodels SARIMAX, regression on [1, pulse, step] with AR(1) errors.
+    y = ar1_with_events.values
+    spec = ModelSpec(ar=(1,), constant="mean").with_intervention("pulse", 100).with_intervention("level", 200)
+    fit = fit_exact(ar1_with_events, spec)
+    assert fit.ok and fit.convergence.converged
+    exog = _events(y.size, 100, 200).assign(const=1.0)
+    ref = _sarimax(y, exog, (1, 0, 0))
+    assert fit.loglik == pytest.approx(ref.llf, abs=1e-3)
+    for ours, theirs in (("const", "const"), ("pulse.t101", "pulse"), ("level.t201", "level"), ("ar.L1", "ar.L1")):
+        assert fit.param(ours).value == pytest.approx(ref.params[theirs], abs=0.01)
+    # the effects were put in: the estimates are within 2 s.e. of them
+    assert abs(fit.param("pulse.t101").value - 6.0) < 2 * fit.param("pulse.t101").se
+    assert abs(fit.param("level.t201").value - 3.0) < 2 * fit.param("level.t201").se
+
+
+def test_differenced_model_matches_sarimax_on_levels():
+    # Reference: SARIMAX(0,1,1) with the undifferenced regressors; Lagwright differences series
+    # and regressors explicitly, which is the same model.
+    rng = np.random.default_rng(5)
+    n = 240
+    y = np.cumsum(rng.standard_normal(n)) + 50.0
+    y[60] += 5.0
+    y[150:] += 4.0
+    series = Series(y, name="invented walk with events")
+    spec = ModelSpec(d=1, ma=(1,)).with_intervention("pulse", 60).with_intervention("level", 150)
+    fit = fit_exact(series, spec)
+    ref = _sarimax(y, _events(n, 60, 150), (0, 1, 1))
+    assert fit.loglik == pytest.approx(ref.llf, abs=1e-3)
+    assert fit.param("pulse.t61").value == pytest.approx(ref.params["pulse"], abs=0.01)
+    assert fit.param("level.t151").value == pytest.approx(ref.params["level"], abs=0.01)
+    assert fit.param("ma.L1").value == pytest.approx(ref.params["ma.L1"], abs=0.01)
+
+
+def test_differenced_regressors_follow_the_textbook_identities():
+    # (1-B) of a pulse is +1, -1; (1-B) of a step is a pulse (Box & Tiao, 1975).
+    spec = ModelSpec(d=1).with_intervention("pulse", 5).with_intervention("level", 8)
+    x = regressors(spec, 12)
+    np.testing.assert_array_equal(x[:, 0], (np.arange(12) == 5).astype(float))
+    np.testing.assert_array_equal(x[:, 1], (np.arange(12) >= 8).astype(float))
+    dx = differenced_regressors(spec, 12)
+    assert dx.shape == (11, 2)
+    np.testing.assert_array_equal(dx[:, 0], np.diff(x[:, 0]))
+    assert dx[4, 0] == 1.0 and dx[5, 0] == -1.0 and np.count_nonzero(dx[:, 0]) == 2
+    assert dx[7, 1] == 1.0 and np.count_nonzero(dx[:, 1]) == 1
+
+
+def test_preview_is_close_to_the_exact_fit(ar1_with_events):
+    spec = ModelSpec(ar=(1,), constant="mean").with_intervention("pulse", 100).with_intervention("level", 200)
+    preview = evaluate(ar1_with_events, spec, kind="preview").fit
+    exact = fit_exact(ar1_with_events, spec)
+    for name in ("pulse.t101", "level.t201", "ar.L1"):
+        assert preview.param(name).value == pytest.approx(exact.param(name).value, abs=2 * exact.param(name).se)
+
+
+def test_a_level_shift_carries_into_the_forecast(ar1_with_events):
+    spec = ModelSpec(ar=(1,), constant="mean").with_intervention("pulse", 100).with_intervention("level", 200)
+    fit = fit_exact(ar1_with_events, spec)
+    far = forecast(ar1_with_events, fit, 200).point[-1]
+    # Far ahead an AR(1) forecast returns to its mean, which after the shift is const + level.
+    assert far == pytest.approx(fit.param("const").value + fit.param("level.t201").value, abs=1e-3)
+
+
+def test_spec_round_trip_nesting_and_labels():
+    base = ModelSpec(ar=(1,), constant="mean")
+    spec = base.with_intervention("level", 80).with_intervention("pulse", 36)
+    assert spec.interventions == (Intervention(36, "pulse"), Intervention(80, "level"))
+    assert ModelSpec.from_dict(spec.to_dict()) == spec
+    assert ModelSpec.from_dict(base.to_dict() | {"interventions": []}) == base
+    assert spec.nests(base) and not base.nests(spec)
+    assert spec.n_params == base.n_params + 2 and spec.n_arma_coefficients == base.n_arma_coefficients
+    assert spec.description == "ARIMA(1,0,0) + mean + pulse t37 + level t81"
+    assert spec.without_intervention("pulse", 36) == base.with_intervention("level", 80)
+    with pytest.raises(SpecError, match="already has a pulse at obs. 37"):
+        spec.with_intervention("pulse", 36)
+    with pytest.raises(SpecError, match="Unknown intervention"):
+        Intervention(3, "ramp")
+
+
+@pytest.mark.parametrize(
+    "spec, message",
+    [
+        (ModelSpec(constant="mean").with_intervention("pulse", 500), "beyond the end"),
+        (ModelSpec(d=1).with_intervention("pulse", 0), "cannot be estimated"),
+        (ModelSpec(constant="mean").with_intervention("level", 0), "cannot be estimated"),
+    ],
+)
+def test_interventions_that_cannot_be_estimated_say_why(ar1_with_events, spec, message):
+    with pytest.raises(InputError, match=message):
+        fit_exact(ar1_with_events, spec)
