@@ -72,6 +72,11 @@ def _add_model_options(parser: argparse.ArgumentParser) -> None:
                        help="Box-Cox lambda (estimated by maximum likelihood if left out)")
     model.add_argument("--constant", choices=("auto", "none", "mean", "drift"), default="auto",
                        help="auto: a mean when undifferenced, none otherwise")
+    model.add_argument("--pulse", action="append", default=[], metavar="WHEN",
+                       help="a pulse intervention at WHEN (a date of the series or an observation number "
+                            "from 1); may be repeated")
+    model.add_argument("--level", action="append", default=[], metavar="WHEN",
+                       help="a level-shift intervention from WHEN on; may be repeated")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -149,8 +154,13 @@ def spec_from_options(args, series):
         constant = "mean" if args.d + args.D == 0 else "none"
     else:
         constant = args.constant
+    from lagwright.core.interventions import locate
+    from lagwright.core.spec import Intervention
+
+    events = [Intervention(locate(series, when), "pulse") for when in getattr(args, "pulse", [])]
+    events += [Intervention(locate(series, when), "level") for when in getattr(args, "level", [])]
     return ModelSpec(ar=args.ar, ma=args.ma, sar=args.sar, sma=args.sma, d=args.d, D=args.D,
-                     s=args.period, transform=transform, constant=constant)
+                     s=args.period, transform=transform, constant=constant, interventions=tuple(events))
 
 
 def _run_fit(args) -> int:

@@ -1,9 +1,10 @@
 """The term bar: the current candidate's lags as chips, and the one-step actions.
 
-Each chip is a lag the model has; clicking its × drops it. The buttons add
-the next lag of a kind, or any lag typed in (subset models such as
-AR{1,12}). The bar only emits what the user asked for; the window makes the
-step.
+Each chip is a lag (or an intervention) the model has; clicking its × drops
+it. The buttons add the next lag of a kind, any lag typed in (subset models
+such as AR{1,12}), or a pulse or level-shift intervention at the observation
+selected in the panes. The bar only emits what the user asked for; the
+window makes the step.
 """
 
 from __future__ import annotations
@@ -36,12 +37,15 @@ class TermBar(QWidget):
 
     Signals
     -------
-    term_added(kind, lag), term_dropped(kind, lag), constant_chosen(constant)
+    term_added(kind, lag), term_dropped(kind, lag), constant_chosen(constant),
+    intervention_added(kind, position), intervention_dropped(kind, position)
     """
 
     term_added = Signal(str, int)
     term_dropped = Signal(str, int)
     constant_chosen = Signal(str)
+    intervention_added = Signal(str, int)
+    intervention_dropped = Signal(str, int)
 
     def __init__(self, parent: QWidget | None = None):
         super().__init__(parent)
@@ -82,6 +86,17 @@ class TermBar(QWidget):
         for widget in (self.kind_box, self.lag_box, self.add_lag_button):
             layout.addWidget(widget)
         layout.addSpacing(10)
+        self._selected: int | None = None
+        self.event_buttons: dict[str, QToolButton] = {}
+        for kind, text in (("pulse", "+Pulse"), ("level", "+Level")):
+            button = QToolButton()
+            button.setText(text)
+            button.setEnabled(False)
+            button.clicked.connect(lambda _=False, k=kind: self._add_event(k))
+            layout.addWidget(button)
+            self.event_buttons[kind] = button
+        self.set_selected_observation(None)
+        layout.addSpacing(10)
         layout.addWidget(QLabel("Constant:"))
         self.constant_box = QComboBox()
         self.constant_box.setToolTip(
@@ -92,8 +107,22 @@ class TermBar(QWidget):
         layout.addWidget(self.constant_box)
 
     # ----------------------------------------------------------------- API
-    def set_spec(self, spec: ModelSpec | None, enabled: bool = True) -> None:
-        """Show ``spec``'s lags as chips (or nothing when ``None``)."""
+    def set_selected_observation(self, position: int | None, label: str = "") -> None:
+        """The observation an intervention would go to (one selected residual), or ``None``."""
+        self._selected = position
+        for kind, button in self.event_buttons.items():
+            button.setEnabled(position is not None)
+            what = ("Pulse: a one-off effect at one observation (an additive outlier)" if kind == "pulse"
+                    else "Level shift: a lasting change of level from one observation on")
+            where = (f"Add it at {label}, the selected observation." if position is not None
+                     else "Select one residual in the panes first (click it; outliers beyond ±3σ are marked).")
+            button.setToolTip(f"{what}. {where} The model becomes a regression with ARIMA errors.")
+
+    def set_spec(self, spec: ModelSpec | None, enabled: bool = True, date_of=None) -> None:
+        """Show ``spec``'s lags and interventions as chips (or nothing when ``None``).
+
+        ``date_of(position)`` names an intervention's observation (default: its number).
+        """
         self._spec = spec
         while self._chips.count():
             item = self._chips.takeAt(0)
@@ -123,6 +152,20 @@ class TermBar(QWidget):
                 chip.clicked.connect(lambda _=False, k=kind, g=lag: self.term_dropped.emit(k, g))
                 self._chips.addWidget(chip)
                 self.chip_buttons.append(chip)
+        for item in spec.interventions:
+            when = (date_of(item.position) if date_of is not None else None) or f"obs. {item.position + 1}"
+            what = "pulse" if item.kind == "pulse" else "level"
+            chip = QToolButton()
+            chip.setText(f"{what} {when} ×")
+            chip.setToolTip(f"Drop the {item.label} (makes a new candidate; the current one stays)")
+            chip.setStyleSheet(
+                f"QToolButton {{ border: 1px dashed {theme.ATTENTION}; border-radius: 9px; padding: 1px 7px; }}"
+                f"QToolButton:hover {{ border-style: solid; }}"
+            )
+            chip.setProperty("intervention", (item.kind, item.position))
+            chip.clicked.connect(lambda _=False, k=item.kind, p=item.position: self.intervention_dropped.emit(k, p))
+            self._chips.addWidget(chip)
+            self.chip_buttons.append(chip)
         seasonal_ok = spec.s >= 2
         self.add_buttons["sar"].setEnabled(seasonal_ok)
         self.add_buttons["sma"].setEnabled(seasonal_ok)
@@ -139,6 +182,10 @@ class TermBar(QWidget):
     def _add_next(self, kind: str) -> None:
         if self._spec is not None:
             self.term_added.emit(kind, self._spec.next_lag(kind))
+
+    def _add_event(self, kind: str) -> None:
+        if self._spec is not None and self._selected is not None:
+            self.intervention_added.emit(kind, self._selected)
 
     def _add_typed(self) -> None:
         if self._spec is not None:

@@ -275,6 +275,8 @@ class MainWindow(QMainWindow):
         self.term_bar.term_added.connect(self.add_term)
         self.term_bar.term_dropped.connect(self.drop_term)
         self.term_bar.constant_chosen.connect(self.set_constant)
+        self.term_bar.intervention_added.connect(self.add_intervention)
+        self.term_bar.intervention_dropped.connect(self.drop_intervention)
         self.prepare_bar.preparation_changed.connect(self._preview_preparation)
         self.prepare_bar.branch_requested.connect(self.start_branch)
         self.prepare_bar.lambda_estimate_requested.connect(self._estimate_lambda)
@@ -315,6 +317,10 @@ class MainWindow(QMainWindow):
         self._action("Add next seasonal MA lag", QKeySequence("Shift+M"), lambda: self._add_next("sma"), step)
         self._action("&Drop the selected term (focused chip, else the last added)", QKeySequence("Delete"),
                      self.drop_last_added, step)
+        self._action("Add a &pulse at the selected observation", QKeySequence("P"),
+                     lambda: self.add_intervention_at_selection("pulse"), step)
+        self._action("Add a &level shift at the selected observation", QKeySequence("L"),
+                     lambda: self.add_intervention_at_selection("level"), step)
         step.addSeparator()
         self._action("&Next candidate", QKeySequence("Ctrl+Down"), lambda: self._move(+1), step)
         self._action("&Previous candidate", QKeySequence("Ctrl+Up"), lambda: self._move(-1), step)
@@ -445,6 +451,28 @@ class MainWindow(QMainWindow):
     def set_constant(self, constant: str) -> None:
         self._step(lambda spec: spec.with_constant(constant))
 
+    def add_intervention(self, kind: str, position: int) -> None:
+        """Add a pulse or level-shift regressor at observation ``position`` (0-based) as a step."""
+        self._step(lambda spec: spec.with_intervention(kind, position))
+
+    def drop_intervention(self, kind: str, position: int) -> None:
+        self._step(lambda spec: spec.without_intervention(kind, position))
+
+    def add_intervention_at_selection(self, kind: str) -> None:
+        """The Step menu's action: an intervention at the one selected observation."""
+        positions = tuple(self.selection.positions)
+        if len(positions) != 1:
+            self.notify("Select one residual first (click it in the trace, the quantile plot or the histogram); "
+                        "outliers beyond ±3σ are marked in the trace.")
+            return
+        self.add_intervention(kind, int(positions[0]))
+
+    def date_of(self, position: int) -> str | None:
+        """The date of observation ``position`` (0-based), or ``None`` for an undated series."""
+        if self.series is None or self.series.times is None or not 0 <= position < len(self.series):
+            return None
+        return self.series.time_labels()[position]
+
     def _add_next(self, kind: str) -> None:
         spec = self.current_spec
         if spec is not None:
@@ -460,8 +488,10 @@ class MainWindow(QMainWindow):
             return
         for chip in getattr(self.term_bar, "chip_buttons", []):
             if chip.hasFocus():
-                kind, lag = chip.property("term")
-                self.drop_term(kind, lag)
+                if chip.property("intervention") is not None:
+                    self.drop_intervention(*chip.property("intervention"))
+                else:
+                    self.drop_term(*chip.property("term"))
                 return
         candidate = self.lineage.get(self.current_id)
         parent = self.lineage.parent(candidate.id)
@@ -473,6 +503,11 @@ class MainWindow(QMainWindow):
             if added:
                 self.drop_term(kind, max(added))
                 return
+        added_events = set(candidate.spec.interventions) - set(parent.spec.interventions)
+        if added_events:
+            item = max(added_events)
+            self.drop_intervention(item.kind, item.position)
+            return
         self.notify("The current candidate was not made by adding a term; click a term's × to drop it.")
 
     def _step(self, change) -> None:
@@ -489,7 +524,7 @@ class MainWindow(QMainWindow):
             self.select_candidate(existing.id)
             return
         try:
-            lineage, child = self.lineage.add_child(parent_id, spec)
+            lineage, child = self.lineage.add_child(parent_id, spec, date_of=self.date_of)
         except LagwrightError as exc:
             self.notify(str(exc))
             return
@@ -506,7 +541,8 @@ class MainWindow(QMainWindow):
                 lineage, child = self.lineage.add_root(spec, step=f"new branch from a hint: {hint.reason}",
                                                        note=hint.note, origin="hint")
             else:
-                lineage, child = self.lineage.add_child(parent_id, spec, note=hint.note, origin="hint")
+                lineage, child = self.lineage.add_child(parent_id, spec, note=hint.note, origin="hint",
+                                                        date_of=self.date_of)
         except LagwrightError as exc:
             self.notify(str(exc))
             return
@@ -785,7 +821,7 @@ class MainWindow(QMainWindow):
             return
         spec = self.current_spec
         self._refresh_lineage_view()
-        self.term_bar.set_spec(spec)
+        self.term_bar.set_spec(spec, date_of=self.date_of)
         self.prepare_bar.set_spec(spec)
         self._updating_note = True
         self.note_edit.setPlainText(self.lineage.get(self.current_id).note)
@@ -911,9 +947,16 @@ class MainWindow(QMainWindow):
             self.notify(str(exc))
 
     def _selection_changed(self, positions) -> None:
+        positions = tuple(positions)
         if self.series is None or not positions:
+            self.term_bar.set_selected_observation(None)
             return
         labels = self.series.time_labels()
+        if len(positions) == 1 and 0 <= positions[0] < len(self.series):
+            self.term_bar.set_selected_observation(int(positions[0]), labels[positions[0]] if self.series.times
+                                                   is not None else f"observation {positions[0] + 1}")
+        else:
+            self.term_bar.set_selected_observation(None)
         shown = []
         for pos in list(positions)[:5]:
             if 0 <= pos < len(self.series):

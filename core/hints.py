@@ -41,7 +41,7 @@ from .errors import LagwrightError, SpecError
 from .evaluate import Evaluation
 from .preview import fit_preview
 from .series import Series
-from .spec import ModelSpec, Transform
+from .spec import INTERVENTION_KINDS, ModelSpec, Transform
 
 #: Most hints returned.
 MAX_HINTS = 5
@@ -62,9 +62,10 @@ class Hint:
     action : {"add", "drop", "difference"}
         ``"difference"`` changes d (``lag`` is then the new d) or proposes a
         transform (``kind="transform"``).
-    kind : {"ar", "ma", "sar", "sma", "d", "transform"}
+    kind : {"ar", "ma", "sar", "sma", "pulse", "level", "d", "transform"}
     lag : int or None
-        The lag (seasonal lags in periods), or the new d.
+        The lag (seasonal lags in periods), the new d, or for an intervention
+        its observation's 0-based position.
     reason : str
         One sentence.
     evidence : str
@@ -82,6 +83,10 @@ class Hint:
 
     def apply(self, spec: ModelSpec) -> ModelSpec:
         """The spec after this step (raises :class:`SpecError` if it does not apply)."""
+        if self.kind in INTERVENTION_KINDS:
+            if self.action == "add":
+                return spec.with_intervention(self.kind, int(self.lag))
+            return spec.without_intervention(self.kind, int(self.lag))
         if self.action == "add":
             return spec.with_term(self.kind, int(self.lag))
         if self.action == "drop":
@@ -190,6 +195,9 @@ def _weak_term_hint(spec: ModelSpec, evaluation: Evaluation) -> list[Hint]:
 
 
 def _term_of(spec: ModelSpec, name: str) -> tuple[str, int]:
+    for item in spec.interventions:
+        if item.name == name:
+            return item.kind, item.position
     lag = int(name.rsplit("L", 1)[1])
     if name.startswith("ar.S."):
         return "sar", lag // spec.s
@@ -239,6 +247,33 @@ def _overdifferencing_hint(spec: ModelSpec, evaluation: Evaluation) -> list[Hint
     )]
 
 
+#: A residual this many standard deviations out is suggested as a pulse: beyond
+#: chance for any series length met here (P(|z| > 4) = 6e-5; common practice).
+PULSE_Z = 4.0
+
+
+def _outlier_hint(spec: ModelSpec, evaluation: Evaluation, series: Series | None) -> list[Hint]:
+    fit = evaluation.fit
+    z = np.asarray(fit.diagnostic_residuals()[1], dtype=float)
+    if z.size == 0 or not np.isfinite(z).any():
+        return []
+    i = int(np.nanargmax(np.abs(z)))
+    if abs(z[i]) < PULSE_Z:
+        return []
+    position = int(fit.diagnostic_positions()[i])
+    if any(item.position == position for item in spec.interventions):
+        return []
+    when = series.time_labels()[position] if series is not None and series.times is not None \
+        else f"obs. {position + 1}"
+    return [Hint(
+        "add", "pulse", position,
+        f"The residual at {when} is far beyond chance: if a known event explains it, model it with a pulse "
+        "(or a level shift, if the level stayed changed).",
+        f"z = {z[i]:+.2f} at {when}",
+        score=abs(z[i]) - 2.0,
+    )]
+
+
 def _variance_hint(spec: ModelSpec, evaluation: Evaluation, positive: bool) -> list[Hint]:
     if spec.transform.kind != "none" or not positive:
         return []
@@ -279,6 +314,7 @@ def suggest(evaluation: Evaluation, series: Series | None = None, limit: int = M
         + _weak_term_hint(spec, evaluation)
         + _correlation_hints(spec, evaluation, series)
         + _variance_hint(spec, evaluation, positive_data)
+        + _outlier_hint(spec, evaluation, series)
     )
     seen: set[tuple] = set()
     ranked = []

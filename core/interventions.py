@@ -76,3 +76,36 @@ def differenced_regressors(spec: ModelSpec, n: int) -> np.ndarray:
     if x.shape[1] == 0:
         return np.zeros((n - spec.lost_observations, 0))
     return np.column_stack([difference(x[:, j], spec.d, spec.D, spec.s) for j in range(x.shape[1])])
+
+
+def locate(series, when: str) -> int:
+    """The 0-based position named by ``when``: an observation number (from 1) or a date of the series.
+
+    Raises
+    ------
+    InputError
+        If ``when`` names no observation of ``series``.
+    """
+    text = str(when).strip()
+    n = len(series)
+    if text.isdigit():
+        number = int(text)
+        if not 1 <= number <= n:
+            raise InputError(f"Observation {number} is outside '{series.name}' (1 to {n}).")
+        return number - 1
+    if series.times is None:
+        raise InputError(
+            f"'{text}' is not an observation number, and '{series.name}' has no dates; "
+            f"give a number from 1 to {n}."
+        )
+    try:
+        stamp = np.datetime64(text, "ns")
+    except ValueError:
+        raise InputError(f"'{text}' is neither an observation number nor a date such as 2024-03-05.") from None
+    hits = np.flatnonzero(series.times == stamp)
+    if hits.size == 0:
+        labels = series.time_labels()
+        raise InputError(
+            f"'{series.name}' has no observation dated {text} (it runs from {labels[0]} to {labels[-1]})."
+        )
+    return int(hits[0])

@@ -42,8 +42,12 @@ class Candidate:
     origin: str = "user"
 
 
-def describe_step(parent: ModelSpec, child: ModelSpec) -> str:
-    """Words for the difference between two specs (``"add MA lag 12"``, ``"drop AR lag 1"`` ...)."""
+def describe_step(parent: ModelSpec, child: ModelSpec, date_of=None) -> str:
+    """Words for the difference between two specs (``"add MA lag 12"``, ``"drop AR lag 1"`` ...).
+
+    ``date_of(position)``, when given, names an observation by its date, so
+    an intervention step reads ``"add level shift at 2024-03-05 (obs. 101)"``.
+    """
     names = {"ar": "AR", "ma": "MA", "sar": "seasonal AR", "sma": "seasonal MA"}
     parts = []
     for kind, name in names.items():
@@ -52,6 +56,13 @@ def describe_step(parent: ModelSpec, child: ModelSpec) -> str:
             parts.append(f"add {name} lag {lag}")
         for lag in sorted(before - after):
             parts.append(f"drop {name} lag {lag}")
+    before, after = set(parent.interventions), set(child.interventions)
+    for verb, items in (("add", after - before), ("drop", before - after)):
+        for item in sorted(items):
+            when = date_of(item.position) if date_of is not None else None
+            what = "pulse" if item.kind == "pulse" else "level shift"
+            place = f"{when} (obs. {item.position + 1})" if when else f"obs. {item.position + 1}"
+            parts.append(f"{verb} {what} at {place}")
     if parent.constant != child.constant:
         parts.append(f"constant {parent.constant} → {child.constant}")
     if not parent.same_data_as(child):
@@ -124,13 +135,18 @@ class Lineage:
         candidate = Candidate(new_id, spec, None, step, note, _origin(origin))
         return Lineage(self.candidates + (candidate,), number), candidate
 
-    def add_child(self, parent_id: str, spec: ModelSpec, note: str = "", origin: str = "user") -> tuple[Lineage, Candidate]:
-        """Record a step from ``parent_id`` to ``spec``; the parent stays."""
+    def add_child(self, parent_id: str, spec: ModelSpec, note: str = "", origin: str = "user",
+                  date_of=None) -> tuple[Lineage, Candidate]:
+        """Record a step from ``parent_id`` to ``spec``; the parent stays.
+
+        ``date_of`` names observations by date in the step's words (see :func:`describe_step`).
+        """
         parent = self.get(parent_id)
         if spec == parent.spec:
             raise SpecError("This step changes nothing: the new model is the same as its parent.")
         new_id, number = self._new_id()
-        candidate = Candidate(new_id, spec, parent_id, describe_step(parent.spec, spec), note, _origin(origin))
+        candidate = Candidate(new_id, spec, parent_id, describe_step(parent.spec, spec, date_of), note,
+                              _origin(origin))
         return Lineage(self.candidates + (candidate,), number), candidate
 
     def with_note(self, candidate_id: str, note: str) -> Lineage:

@@ -138,3 +138,43 @@ def test_spec_round_trip_nesting_and_labels():
 def test_interventions_that_cannot_be_estimated_say_why(ar1_with_events, spec, message):
     with pytest.raises(InputError, match=message):
         fit_exact(ar1_with_events, spec)
+
+
+def test_a_large_outlier_is_hinted_as_a_pulse_and_a_weak_one_as_a_drop():
+    # Invented white noise around 10 with one reading 8 sd too high at t = 70 (common practice:
+    # |z| > 4 is beyond chance at these lengths).
+    from lagwright.core.hints import suggest
+
+    rng = np.random.default_rng(11)
+    y = rng.standard_normal(200) + 10.0
+    y[70] += 8.0
+    series = Series(y, name="invented meter with one bad reading")
+    spec = ModelSpec(constant="mean")
+    top = suggest(evaluate(series, spec, kind="exact"), series)[0]
+    assert (top.action, top.kind, top.lag) == ("add", "pulse", 70)
+    assert "obs. 71" in top.evidence
+    child = top.apply(spec)
+    fit = evaluate(series, child, kind="exact").fit
+    assert fit.param("pulse.t71").value == pytest.approx(8.0, abs=2 * fit.param("pulse.t71").se)
+    # a pulse where nothing happened has not earned its place: the hint is to drop it
+    idle = spec.with_intervention("pulse", 150)
+    hints = suggest(evaluate(series, idle, kind="exact"), series)
+    assert any((h.action, h.kind, h.lag) == ("drop", "pulse", 150) for h in hints)
+    assert idle.without_intervention("pulse", 150) == spec
+
+
+def test_cli_places_interventions_by_date_or_number(capsys):
+    import json
+
+    from lagwright.app.cli import main
+
+    code = main(["fit", "sample:water_demand", "--period", "7", "--ar", "1", "--pulse", "2023-03-10",
+                 "--level", "200", "--json"])
+    assert code == 0
+    payload = json.loads(capsys.readouterr().out)
+    events = payload["spec"]["interventions"]
+    assert {"kind": "level", "position": 199} in events and len(events) == 2
+    names = [p["name"] for p in payload["params"]]
+    assert "level.t200" in names and any(n.startswith("pulse.t") for n in names)
+    assert main(["fit", "sample:water_demand", "--pulse", "1999-01-01"]) == 1  # EXIT_DATA
+    assert "has no observation dated 1999-01-01" in capsys.readouterr().err

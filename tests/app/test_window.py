@@ -391,3 +391,31 @@ def test_compare_view_forecasts_and_akaike_weights(water_window, qtbot):
     direct = compare_forecasts(w.series, w.lineage.get(a).spec, w.lineage.get(b).spec, 56)
     assert shown.test.p == pytest.approx(direct.test.p, rel=1e-6)
     assert "Diebold-Mariano" in w.compare_view.forecast_label.text()
+
+
+def test_pulse_at_a_selected_outlier_is_a_step_with_its_date(water_window, qtbot):
+    # The largest standardized residual of the root is selected, as a click on it would;
+    # "+Pulse" then makes a child with a pulse regressor there, named by its date.
+    w = water_window
+    root = w.current_spec
+    z = w.evaluation_for(w.current_id).fit.std_residuals
+    offset = w.evaluation_for(w.current_id).fit.offset
+    position = int(np.nanargmax(np.abs(z))) + offset
+    assert not w.term_bar.event_buttons["pulse"].isEnabled()
+    w.selection.select([position])
+    assert w.term_bar.event_buttons["pulse"].isEnabled()
+    w.term_bar.event_buttons["pulse"].click()
+    wait_exact(qtbot, w)
+    child = w.lineage.get(w.current_id)
+    assert child.parent_id is not None and w.lineage.get(child.parent_id).spec == root
+    assert child.spec.interventions[0].position == position and child.spec.interventions[0].kind == "pulse"
+    date = w.series.time_labels()[position]
+    assert child.step == f"add pulse at {date} (obs. {position + 1})"
+    fit = w.exact_fit(child.spec)
+    name = f"pulse.t{position + 1}"
+    assert name in w.tests_panel.tables["params"].keys()
+    assert abs(fit.param(name).stat) > 2  # the selected outlier is a real one-off effect
+    assert any(chip.property("intervention") == ("pulse", position) for chip in w.term_bar.chip_buttons)
+    # Delete drops what the step added: back to a candidate with the root's spec
+    w.drop_last_added()
+    qtbot.waitUntil(lambda: w.current_spec == root, timeout=TIMEOUT)
