@@ -128,7 +128,8 @@ def esc(text: str) -> str:
 
 def equation_html(text: str) -> str:
     """An equation line as HTML: escaped, with the time subscripts set as subscripts."""
-    return re.sub(r"\b([ya])_t\b", r"<i>\1</i><sub>t</sub>", html.escape(text, quote=True))
+    # y_t and a_t, and the intervention regressors P1_t, L2_t … of the equation
+    return re.sub(r"\b([ya]|[PL]\d+)_t\b", r"<i>\1</i><sub>t</sub>", html.escape(text, quote=True))
 
 
 class TextBox:

@@ -135,6 +135,28 @@ def transformed_variable(spec: ModelSpec) -> str:
     return "y_t"
 
 
+def intervention_symbols(spec: ModelSpec) -> list[tuple[object, str]]:
+    """Each intervention with its symbol in the equation: pulses ``P1``, ``P2`` …, level shifts ``L1`` …"""
+    counts = {"pulse": 0, "level": 0}
+    out = []
+    for item in spec.interventions:
+        counts[item.kind] += 1
+        out.append((item, f"{'P' if item.kind == 'pulse' else 'L'}{counts[item.kind]}"))
+    return out
+
+
+def _with_effects(spec: ModelSpec, params: Mapping[str, float], digits: int) -> str:
+    """The modelled variable less the intervention effects: ``(y_t − 5.640 P1_t − 3.070 L1_t)``."""
+    variable = transformed_variable(spec)
+    if not spec.interventions:
+        return variable
+    parts = [variable]
+    for item, symbol in intervention_symbols(spec):
+        omega = float(params[item.name])
+        parts.append(f"{MINUS if omega >= 0 else '+'} {magnitude(omega, digits)} {symbol}_t")
+    return "(" + " ".join(parts) + ")"
+
+
 def ar_at_one(spec: ModelSpec, params: Mapping[str, float]) -> float:
     """:math:`\\phi(1)\\,\\Phi(1) = (1 - \\sum\\phi_i)(1 - \\sum\\Phi_j)`."""
     phi = 1.0 - sum(params[f"ar.L{lag}"] for lag in spec.ar)
@@ -167,7 +189,7 @@ def fitted_equation(spec: ModelSpec, params: Mapping[str, float], digits: int = 
     ``(1 − 0.560 B)(1 − B⁷) y_t = (1 − 0.790 B⁷) a_t``.
     """
     left, right = _factors(spec, params, digits)
-    variable = transformed_variable(spec)
+    variable = _with_effects(spec, params, digits)
     lhs = "".join(left) + (" " if left else "") + variable
     noise = "".join(right) + (" " if right else "") + "a_t"
     c = equation_constant(spec, params)
@@ -185,9 +207,18 @@ def differenced_variable(spec: ModelSpec) -> str:
     return "".join(factors) + (" " if factors else "") + transformed_variable(spec)
 
 
-def equation_notes(spec: ModelSpec, params: Mapping[str, float], digits: int = 3) -> tuple[str, ...]:
-    """Sentences that go with :func:`fitted_equation`: the transform, the constant and the noise."""
+def equation_notes(spec: ModelSpec, params: Mapping[str, float], digits: int = 3,
+                   date_of=None) -> tuple[str, ...]:
+    """Sentences that go with :func:`fitted_equation`: the transform, the interventions, the constant
+    and the noise. ``date_of(position)`` names the interventions' observations by date."""
     notes = []
+    for item, symbol in intervention_symbols(spec):
+        when = date_of(item.position) if date_of is not None else None
+        place = f"{when} (obs. {item.position + 1})" if when else f"obs. {item.position + 1}"
+        if item.kind == "pulse":
+            notes.append(f"{symbol}_t is 1 at {place} and 0 elsewhere (a pulse).")
+        else:
+            notes.append(f"{symbol}_t is 0 before {place} and 1 from then on (a level shift).")
     kind = spec.transform.kind
     if kind == "log":
         notes.append("log is the natural logarithm.")

@@ -345,8 +345,16 @@ def fmt_int(value) -> str:
 _TERM_WORDS = {"ar": "AR", "ma": "MA", "sar": "seasonal AR", "sma": "seasonal MA"}
 
 
-def parameter_meaning(name: str, spec: ModelSpec) -> str:
-    """Words for a statsmodels parameter name (``ma.S.L7`` -> ``seasonal MA, lag 7``)."""
+def parameter_meaning(name: str, spec: ModelSpec, date_of=None) -> str:
+    """Words for a statsmodels parameter name (``ma.S.L7`` -> ``seasonal MA, lag 7``).
+
+    ``date_of(position)`` names an intervention's observation by its date.
+    """
+    for item in spec.interventions:
+        if item.name == name:
+            when = date_of(item.position) if date_of is not None else None
+            what = "pulse" if item.kind == "pulse" else "level shift"
+            return f"{what} at {when} (obs. {item.position + 1})" if when else f"{what} at obs. {item.position + 1}"
     if name == "const":
         if spec.constant == "drift":
             return "drift (mean of the differenced series)"
@@ -532,6 +540,10 @@ def reproduce_command(spec: ModelSpec, data: DataReference | None, series: Serie
         if spec.transform.kind == "boxcox":
             args += ["--lambda", repr(float(spec.transform.lam))]
     args += ["--constant", spec.constant]
+    date_of = date_teller(series)
+    for item in spec.interventions:
+        when = (date_of(item.position) if date_of is not None else None) or str(item.position + 1)
+        args += [f"--{item.kind}", when]
     return " ".join(shlex.quote(a) for a in args)
 
 
@@ -560,7 +572,7 @@ def build_memo(inputs: MemoInputs) -> Memo:
     sections = [
         Section(1, "data", "Data and where it came from", _data_section(inputs)),
         Section(2, "preparation", "Preparation", _preparation_section(inputs, chosen, ev)),
-        Section(3, "model", "The chosen model", _model_section(chosen, ev)),
+        Section(3, "model", "The chosen model", _model_section(chosen, ev, inputs)),
         Section(4, "residuals", "Residual evidence", _residual_section(ev, inputs.series)),
         Section(5, "lineage", "How the choice was made", _lineage_section(inputs, chosen, runner)),
         Section(6, "runner_up", "Runner-up, side by side", _runner_up_section(inputs, chosen, runner)),
@@ -702,7 +714,7 @@ def _preparation_section(inputs: MemoInputs, chosen: Candidate, ev: Evaluation |
 
 
 # ------------------------------------------------------------ 3 the model
-def parameter_table(fit: Fit, title: str = "") -> Table:
+def parameter_table(fit: Fit, title: str = "", date_of=None) -> Table:
     """Estimate, standard error, z and p of every parameter (z and p left out for σ²)."""
     rows = []
     for p in fit.params:
@@ -710,7 +722,7 @@ def parameter_table(fit: Fit, title: str = "") -> Table:
         weak = p.weak and not is_var
         value, se = (fmt_sig(p.value), fmt_sig(p.se, 4)) if is_var else (fmt_estimate(p.value), fmt_estimate(p.se))
         rows.append(Row(
-            (p.name, parameter_meaning(p.name, fit.spec), value, se,
+            (p.name, parameter_meaning(p.name, fit.spec, date_of), value, se,
              DASH if is_var else fmt_fixed(p.stat, 2), DASH if is_var else fmt_p(p.p)),
             cell_marks=("", "", "", "", "weak" if weak else "", ""),
         ))
@@ -736,8 +748,55 @@ def criteria_items(fit: Fit) -> tuple[tuple[str, str], ...]:
     )
 
 
-def _model_section(chosen: Candidate, ev: Evaluation | None) -> tuple:
+def date_teller(series: Series | None):
+    """``date_of(position)`` for ``series``: its date label, or ``None`` when undated."""
+    if series is None or series.times is None:
+        return None
+    labels = series.time_labels()
+    return lambda position: labels[position] if 0 <= position < len(labels) else None
+
+
+def intervention_table(fit: Fit, lineage, date_of=None) -> Table:
+    """Every intervention of ``fit``: what, when, its estimated effect with s.e., z and p, and why.
+
+    The effect is on the modelled (transformed) scale; after a log transform
+    an effect ω multiplies the series by e^ω, written out as a percentage.
+    """
+    spec = fit.spec
+    reasons = {}
+    for c in (lineage.candidates if lineage is not None else ()):
+        parent = lineage.get(c.parent_id).spec if c.parent_id is not None else None
+        for item in c.spec.interventions:
+            if parent is not None and item not in parent.interventions and item not in reasons:
+                reasons[item] = c.note.strip() or f"added in step {c.id} ({c.step})"
+    rows = []
+    log_scale = spec.transform.kind == "log" or (spec.transform.kind == "boxcox" and spec.transform.lam == 0.0)
+    for item in spec.interventions:
+        p = fit.param(item.name)
+        when = (date_of(item.position) if date_of is not None else None) or f"obs. {item.position + 1}"
+        effect = fmt_estimate(p.value)
+        if log_scale:
+            effect += f" (×{math.exp(p.value):.3f}, {100 * (math.exp(p.value) - 1):+.1f} %)".replace("-", MINUS)
+        rows.append(Row(
+            ("pulse" if item.kind == "pulse" else "level shift", when, effect, fmt_estimate(p.se),
+             fmt_fixed(p.stat, 2), fmt_p(p.p), reasons.get(item, "—")),
+            cell_marks=("", "", "", "", "weak" if p.weak else "", "", ""),
+        ))
+    return Table(
+        columns=(Column("Event", weight=0.9), Column("When", weight=1.1), Column("Effect", "right", 1.5),
+                 Column("s.e.", "right", 0.8), Column("z", "right", 0.6), Column("p", "right", 0.8),
+                 Column("Why", weight=2.4)),
+        rows=tuple(rows),
+        title="Interventions",
+        note="A pulse is a one-off effect at one observation; a level shift lasts from its observation on. "
+             "Effects are on the scale of the modelled series; |z| < 2 is marked as weak. The model is a "
+             "regression on these events with ARIMA errors.",
+    )
+
+
+def _model_section(chosen: Candidate, ev: Evaluation | None, inputs: MemoInputs | None = None) -> tuple:
     spec = chosen.spec
+    date_of = date_teller(inputs.series if inputs is not None else None)
     blocks: list = [Paragraph(f"Candidate {chosen.id}: {spec.label}", "lead")]
     extras = []
     if spec.has_constant:
@@ -759,8 +818,10 @@ def _model_section(chosen: Candidate, ev: Evaluation | None) -> tuple:
             "with care.", "warning"))
     params = fit.param_dict
     blocks.append(Subheading("Fitted equation"))
-    blocks.append(Equation(fitted_equation(spec, params), equation_notes(spec, params)))
-    blocks.append(parameter_table(fit, "Estimates"))
+    blocks.append(Equation(fitted_equation(spec, params), equation_notes(spec, params, date_of=date_of)))
+    blocks.append(parameter_table(fit, "Estimates", date_of))
+    if spec.interventions:
+        blocks.append(intervention_table(fit, inputs.lineage if inputs is not None else None, date_of))
     items = criteria_items(fit)
     conv = fit.convergence
     rows = [Row((label, value)) for label, value in items]
@@ -771,7 +832,8 @@ def _model_section(chosen: Candidate, ev: Evaluation | None) -> tuple:
         columns=(Column("Quantity", weight=1.0), Column("Value", weight=2.6)),
         rows=tuple(rows),
         title="Fit summary",
-        note="k counts the AR and MA coefficients, the constant and σ²; n is the number of values of the "
+        note="k counts the AR and MA coefficients, the constant, any intervention effects and σ²; n is the "
+             "number of values of the "
              "differenced series in the likelihood.",
     ))
     messages = list(fit.root_warnings.messages()) + list(fit.warnings)

@@ -178,3 +178,42 @@ def test_cli_places_interventions_by_date_or_number(capsys):
     assert "level.t200" in names and any(n.startswith("pulse.t") for n in names)
     assert main(["fit", "sample:water_demand", "--pulse", "1999-01-01"]) == 1  # EXIT_DATA
     assert "has no observation dated 1999-01-01" in capsys.readouterr().err
+
+
+def test_the_memo_lists_each_intervention_with_its_size_significance_and_reason(capsys):
+    # The memo's intervention table equals the core fit; its reproduction command refits the
+    # same model from the dates it prints.
+    import json
+    import shlex
+
+    from lagwright.app.cli import main
+    from lagwright.core import samples
+    from lagwright.core.equation import MINUS
+    from lagwright.core.lineage import Lineage
+    from lagwright.core.memo_content import MemoInputs, Table, build_memo, reproduce_command
+    from lagwright.core.memo_inputs import evaluate_lineage
+    from lagwright.core.session import DataReference
+
+    series = samples.load_sample("water_demand")
+    base = ModelSpec(D=1, s=7, sma=(1,), ar=(1,))
+    lineage, c1 = Lineage().add_root(base, step="starting model")
+    date_of = dict(enumerate(series.time_labels())).get
+    event = base.with_intervention("level", 400)
+    lineage, c2 = lineage.add_child(c1.id, event, note="New reservoir zone connected.", date_of=date_of)
+    assert c2.step == f"add level shift at {series.time_labels()[400]} (obs. 401)"
+    evaluations = evaluate_lineage(series, lineage)
+    inputs = MemoInputs(series=series, lineage=lineage, evaluations=evaluations, chosen_id=c2.id,
+                        date="2026-12-02", data=DataReference(sample="water_demand"))
+    memo = build_memo(inputs)
+    table = next(b for b in memo.section("model").blocks if isinstance(b, Table) and b.title == "Interventions")
+    (row,) = table.rows
+    fit = evaluations[c2.id].fit
+    p = fit.param("level.t401")
+    assert row.cells[0] == "level shift" and row.cells[1] == series.time_labels()[400]
+    assert float(row.cells[2].split()[0].replace(MINUS, "-")) == pytest.approx(p.value, abs=5e-5)
+    assert float(row.cells[4].replace(MINUS, "-")) == pytest.approx(p.stat, abs=5e-3)
+    assert row.cells[6] == "New reservoir zone connected."
+    command = reproduce_command(event, inputs.data, series)
+    assert command.endswith(f"--level {series.time_labels()[400]}")
+    assert main(shlex.split(command)[1:] + ["--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["loglik"] == pytest.approx(fit.loglik, abs=1e-8)
