@@ -6,7 +6,8 @@ Usage (a real X server, e.g. Xvfb; offscreen also works but draws no window fram
 
 It opens the default sample, prepares it (seasonal difference, s = 7), grows
 a model by three steps with notes, waits for every exact fit, and saves:
-``main.png`` (the residual panes), ``roots.png`` (periodogram and roots tab),
+``main.png`` (the residual panes), ``intervention.png`` (after a pulse at the
+largest residual), ``roots.png`` (periodogram and roots tab),
 ``prepared.png`` (identification tab) and ``compare.png`` (the side-by-side
 view of the last step).
 """
@@ -60,6 +61,13 @@ def main() -> int:
     window.note_edit.setPlainText("PACF cuts off after lag 1: one AR term.")
     settle()
     window.grab().save(str(out / "main.png"))
+    fit = window.exact_fit(window.current_spec)  # the largest residual, chosen as a click on it would
+    position = int(abs(fit.std_residuals).argmax()) + fit.offset
+    window.selection.select([position])
+    window.term_bar.event_buttons["pulse"].click()
+    window.note_edit.setPlainText("Main burst on this day (invented): a one-off effect.")
+    settle()
+    window.grab().save(str(out / "intervention.png"))
     window.tabs.setCurrentIndex(1)
     settle()
     window.grab().save(str(out / "roots.png"))
@@ -70,7 +78,7 @@ def main() -> int:
     settle()
     window.grab().save(str(out / "compare.png"))
     window.close()
-    print(f"saved main.png, roots.png, prepared.png, compare.png in {out}")
+    print(f"saved main.png, intervention.png, roots.png, prepared.png, compare.png in {out}")
     return 0
 
 
