@@ -24,7 +24,7 @@ import time
 from concurrent.futures import Future, ProcessPoolExecutor, ThreadPoolExecutor
 from dataclasses import dataclass
 
-from PySide6.QtCore import QObject, Signal
+from PySide6.QtCore import QObject, QThread, QTimer, Signal
 
 from lagwright.core.errors import LagwrightError
 from lagwright.core.evaluate import Evaluation, evaluate
@@ -193,12 +193,7 @@ class FitService(QObject):
         self._deliver_task(response)
 
     def _deliver_task(self, response: TaskResponse) -> None:
-        with self._lock:
-            self._pending.discard(response.request_id)
-        try:
-            self.task_finished.emit(response)
-        except RuntimeError:
-            pass
+        self._emit_later(self.task_finished, response)
 
     def _done(self, request: FitRequest, future: Future) -> None:
         try:
@@ -221,12 +216,30 @@ class FitService(QObject):
             pass
 
     def _deliver(self, response: FitResponse) -> None:
-        with self._lock:
-            self._pending.discard(response.request_id)
-        try:
-            self.fit_finished.emit(response)
-        except RuntimeError:  # the service was deleted while the fit ran
-            pass
+        self._emit_later(self.fit_finished, response)
+
+    def _emit_later(self, signal, response) -> None:
+        """Emit ``signal(response)`` through the GUI thread's event loop, never inside :meth:`submit`.
+
+        A request that finishes before ``submit`` returns (a tiny fit, or a
+        worker that is gone) has its callback run at once in the submitting
+        thread; emitting there would reach the window before it knows the
+        request's id, and the window would drop the answer as stale. From the
+        GUI thread the emission is therefore posted; from a worker thread a
+        queued connection posts it anyway.
+        """
+        def emit() -> None:
+            with self._lock:
+                self._pending.discard(response.request_id)
+            try:
+                signal.emit(response)
+            except RuntimeError:  # the service was deleted while the fit ran
+                pass
+
+        if QThread.currentThread() is self.thread():
+            QTimer.singleShot(0, self, emit)
+        else:
+            emit()
 
     def pending(self) -> int:
         """Number of requests submitted and not yet delivered."""
