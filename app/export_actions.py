@@ -210,6 +210,8 @@ class ExportActions(QObject):
             data=window.data_ref, session_name=Path(session).name if session else "",
             units=sample.units if sample else "", description=sample.description if sample else "",
             series_title=sample.title if sample else "", versions=software_versions(qt_versions()),
+            # a forecast check made in the window for the chosen candidate goes into its memo
+            forecast=getattr(window, "forecast_checks", {}).get(window.lineage.get(cid).spec),
         )
 
     def reveal(self, path: Path) -> bool:

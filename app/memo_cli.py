@@ -45,6 +45,13 @@ def add_memo_parser(sub, add_model_options) -> argparse.ArgumentParser:
                      help="with a session: a second candidate shown side by side")
     out.add_argument("--page", choices=("a4", "letter"), type=str.lower, default="a4", help="page size (default a4)")
     out.add_argument("--analyst", help="the analyst's name for the title block (default: the session's)")
+    out.add_argument("--forecast", type=int, default=0, metavar="H",
+                     help="add a forecast section: H steps after the end of the series (default: none)")
+    out.add_argument("--back-transform", dest="back_transform", choices=("median", "mean"), default="median",
+                     help="with a log or Box-Cox transform: forecast the back-transformed median or the "
+                          "bias-adjusted mean (default median); the memo states which")
+    out.add_argument("--holdout", type=int, default=0, metavar="N",
+                     help="with --forecast: also refit without the last N values and score their forecasts")
     return memo
 
 
@@ -149,6 +156,25 @@ def _file_inputs(args):
     )
 
 
+def with_forecast(inputs, horizon: int, back_transform: str = "median", holdout: int = 0):
+    """``inputs`` with the chosen candidate's forecast (and holdout score) when ``horizon`` > 0."""
+    from dataclasses import replace
+
+    from lagwright.core.errors import InputError
+    from lagwright.core.forecast import forecast_check
+
+    if not horizon:
+        if holdout:
+            raise InputError("--holdout goes with --forecast H: give the forecast horizon too.")
+        return inputs
+    if horizon < 0 or holdout < 0:
+        raise InputError("--forecast and --holdout take positive numbers of steps.")
+    fit = inputs.evaluations[inputs.chosen_id].fit
+    if not fit.ok:
+        return inputs
+    return replace(inputs, forecast=forecast_check(inputs.series, fit, holdout, horizon, back_transform))
+
+
 def run_memo(args) -> int:
     """Run ``lagwright memo``; errors are :class:`LagwrightError` and end as one line on stderr."""
     _ensure_gui()
@@ -157,6 +183,7 @@ def run_memo(args) -> int:
     check_writable(args.output)  # before any fitting: an unwritable place fails at once
     is_session = str(args.file).endswith(SUFFIX)
     inputs = _session_inputs(args) if is_session else _file_inputs(args)
+    inputs = with_forecast(inputs, args.forecast, args.back_transform, args.holdout)
     with _QuietQt():
         path = make_memo(inputs, args.output, page=args.page)
     fit = inputs.evaluations[inputs.chosen_id].fit

@@ -52,15 +52,18 @@ from .evaluate import Evaluation
 from .lineage import Candidate, Lineage
 from .result import Fit
 from .series import Series
+from .forecast import ForecastCheck
 from .session import DataReference
 from .spec import ModelSpec
 
 #: The panes a memo shows, by key, in the order of the residual-evidence section.
 FIGURE_KEYS = ("trace", "correlation", "histogram", "quantile", "periodogram", "roots")
 
-#: Section keys, in order (the title block comes before them).
+#: Section keys, in order (the title block comes before them). "forecast" is
+#: there only when the memo was asked for a forecast.
 SECTION_KEYS = (
-    "data", "preparation", "model", "residuals", "lineage", "runner_up", "conventions", "reproduction", "cautions",
+    "data", "preparation", "model", "residuals", "lineage", "runner_up", "forecast", "conventions", "reproduction",
+    "cautions",
 )
 
 
@@ -276,6 +279,11 @@ class MemoInputs:
         A sentence about the data (the scenario of a bundled sample).
     series_title : str
         A human title of the series, if known.
+    forecast : ForecastCheck or None
+        The chosen candidate's forecast from the end of the series (and its
+        holdout score, if one was asked for); the memo then has a forecast
+        section stating the back-transform used (see
+        :func:`lagwright.core.forecast.forecast_check`).
     """
 
     series: Series
@@ -291,6 +299,7 @@ class MemoInputs:
     versions: tuple[tuple[str, str], ...] = ()
     description: str = ""
     series_title: str = ""
+    forecast: ForecastCheck | None = None
 
 
 # ================================================================ formatting
@@ -576,10 +585,15 @@ def build_memo(inputs: MemoInputs) -> Memo:
         Section(4, "residuals", "Residual evidence", _residual_section(ev, inputs.series)),
         Section(5, "lineage", "How the choice was made", _lineage_section(inputs, chosen, runner)),
         Section(6, "runner_up", "Runner-up, side by side", _runner_up_section(inputs, chosen, runner)),
-        Section(7, "conventions", "Conventions and software", _conventions_section(inputs, ev)),
-        Section(8, "reproduction", "Reproducing the fit", _reproduction_section(inputs, chosen)),
-        Section(9, "cautions", "Cautions", _cautions_section(inputs)),
     ]
+    if inputs.forecast is not None:
+        sections.append(Section(7, "forecast", "Forecast and holdout check", _forecast_section(inputs)))
+    for key, title, blocks in (
+        ("conventions", "Conventions and software", _conventions_section(inputs, ev)),
+        ("reproduction", "Reproducing the fit", _reproduction_section(inputs, chosen)),
+        ("cautions", "Cautions", _cautions_section(inputs)),
+    ):
+        sections.append(Section(len(sections) + 1, key, title, blocks))
     title = _title_block(inputs, chosen, runner, ev)
     version = dict(inputs.versions).get("Lagwright", "")
     program = f"Lagwright {version}".strip()
@@ -593,6 +607,97 @@ def build_memo(inputs: MemoInputs) -> Memo:
         running_head=f"Model-choice memo · {inputs.series.name} · {chosen.id} {chosen.spec.label}",
         footer=f"{program} · {inputs.date}" if inputs.date else program,
     )
+
+
+# ------------------------------------------------------------- forecast
+def future_labels(series: Series, horizon: int) -> list[str]:
+    """Labels of the ``horizon`` steps after the series: dates when its frequency is known, else ``t+h``."""
+    if series.times is not None and series.frequency:
+        import pandas as pd
+
+        try:
+            stamps = pd.date_range(pd.Timestamp(series.times[-1]), periods=horizon + 1, freq=series.frequency)[1:]
+        except (ValueError, TypeError):
+            stamps = None
+        if stamps is not None:
+            whole_days = all(t == t.normalize() for t in stamps)
+            return [t.strftime("%Y-%m-%d" if whole_days else "%Y-%m-%d %H:%M") for t in stamps]
+    return [f"t+{h}" for h in range(1, horizon + 1)]
+
+
+BACK_TRANSFORM_TEXT = {
+    "median": "the back-transformed median: the forecast of the transformed series mapped back as it is "
+              "(half the outcomes are expected below it)",
+    "mean": "the bias-adjusted mean: the back-transformed forecast raised by half its variance "
+            "(for a log transform exp(m + v/2)), so that forecasts add up correctly over time",
+}
+
+#: Most forecast steps listed in the table (the rest are summarised).
+FORECAST_ROWS = 24
+
+
+def _forecast_section(inputs: MemoInputs) -> tuple:
+    check = inputs.forecast
+    spec = check.spec
+    blocks: list = []
+    if check.failure or check.future is None:
+        blocks.append(Paragraph(f"No forecast could be made: {check.failure or 'the fit failed.'}", "warning"))
+        return tuple(blocks)
+    fc = check.future
+    labels = future_labels(inputs.series, fc.horizon)
+    last = inputs.series.time_labels()[-1]
+    text = (f"Forecasts of the next {fc.horizon} values after {last}, with 80 % and 95 % prediction intervals, "
+            f"from the estimates of {spec.label} on the whole series.")
+    if spec.transform.kind != "none":
+        text += (f" The model is for the transformed series; the point forecast is "
+                 f"{BACK_TRANSFORM_TEXT[fc.back_transform]}. The intervals are the transformed intervals mapped "
+                 "back, so they are not symmetric about it.")
+    else:
+        text += " No transform: the point forecast is the mean forecast."
+    levels = [i for i in spec.interventions if i.kind == "level"]
+    if spec.interventions:
+        text += (" Level shifts carry on into the forecast; pulses do not recur."
+                 if levels else " Pulses do not recur in the forecast.")
+    blocks.append(Paragraph(text))
+    rows = []
+    shown = min(fc.horizon, FORECAST_ROWS)
+    for h in range(shown):
+        rows.append(Row((str(h + 1), labels[h], fmt_sig(fc.point[h]),
+                         f"{fmt_sig(fc.lower80[h])} – {fmt_sig(fc.upper80[h])}",
+                         f"{fmt_sig(fc.lower95[h])} – {fmt_sig(fc.upper95[h])}")))
+    note = (f"Values in {inputs.units}. " if inputs.units else "") + \
+        "Prediction intervals assume the model holds with Gaussian errors and known estimates."
+    if fc.horizon > shown:
+        note += f" Steps {shown + 1}–{fc.horizon} are left out here; the last reaches {fmt_sig(fc.point[-1])}."
+    blocks.append(Table(
+        columns=(Column("h", "right", 0.4), Column("When", weight=1.2), Column("Forecast", "right", 1.1),
+                 Column("80 % interval", "right", 1.6), Column("95 % interval", "right", 1.6)),
+        rows=tuple(rows), title="Forecast", note=note,
+    ))
+    score = check.holdout
+    if score is not None:
+        if not score.ok:
+            blocks.append(Paragraph(f"The holdout check could not be made: {score.failure}", "warning"))
+        else:
+            blocks.append(Table(
+                columns=(Column("Measure", weight=1.6), Column("Value", "right", 1.0), Column("Meaning", weight=3.0)),
+                rows=(
+                    Row(("RMSE", fmt_sig(score.rmse), "root mean squared error of the held-out forecasts")),
+                    Row(("MAE", fmt_sig(score.mae), "mean absolute error")),
+                    Row(("MASE", fmt_fixed(score.mase, 3),
+                         "MAE over the in-sample mean absolute (seasonal) naive error; below 1 beats the naive "
+                         "forecast (Hyndman & Koehler, 2006)")),
+                    Row(("80 % interval coverage", f"{100 * score.coverage80:.0f} %", "share of held-out values "
+                         "inside the 80 % intervals")),
+                    Row(("95 % interval coverage", f"{100 * score.coverage95:.0f} %", "share inside the 95 % "
+                         "intervals")),
+                ),
+                title=f"Holdout check: the last {score.horizon} values",
+                note=f"The model was refitted without the last {score.horizon} values and forecast them from there "
+                     f"({'median' if score.forecast.back_transform == 'median' else 'bias-adjusted mean'} "
+                     "point forecasts).",
+            ))
+    return tuple(blocks)
 
 
 # ------------------------------------------------------------ title block
@@ -1221,14 +1326,22 @@ def _cautions_section(inputs: MemoInputs) -> tuple:
                   "caution"),
         Paragraph("Forecasts used for supply, safety or financial commitments need the organisation's own review, "
                   "and compliance with local rules and licensed practice, before anyone relies on them.", "caution"),
-        Bullets((
-            "The model describes the period of the data. Changes in behaviour, measurement or definitions, "
-            "and conditions not seen in the data, are not covered.",
-            "Out-of-sample accuracy is not part of this memo; check it on held-out data before use.",
-            "Significance levels are nominal: many candidates were compared, so some test results are "
-            "expected to pass or fail by chance.",
-        )),
     ]
+    check = inputs.forecast
+    scored = check is not None and check.holdout is not None and check.holdout.ok
+    items = [
+        "The model describes the period of the data. Changes in behaviour, measurement or definitions, "
+        "and conditions not seen in the data, are not covered.",
+        ("The holdout check covers one stretch of held-out data; accuracy elsewhere, and at other horizons, "
+         "may differ." if scored else
+         "Out-of-sample accuracy is not part of this memo; check it on held-out data before use."),
+        "Significance levels are nominal: many candidates were compared, so some test results are "
+        "expected to pass or fail by chance.",
+    ]
+    if check is not None and check.future is not None:
+        items.append("Prediction intervals leave out the uncertainty of the estimates and of the model choice, "
+                     "so they are too narrow, more so far ahead; do not read them as guarantees.")
+    blocks.append(Bullets(tuple(items)))
     if inputs.data is not None and inputs.data.sample:
         blocks.append(Paragraph("The data in this memo are invented sample data bundled with Lagwright.", "small"))
     return tuple(blocks)

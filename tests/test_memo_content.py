@@ -25,7 +25,7 @@ from scipy import stats
 
 from lagwright.core import samples
 from lagwright.core.equation import equation_notes, fitted_equation
-from lagwright.core.errors import SessionError
+from lagwright.core.errors import InputError, SessionError
 from lagwright.core.evaluate import evaluate
 from lagwright.core.export_tables import (
     LINEAGE_COLUMNS,
@@ -43,6 +43,7 @@ from lagwright.core.memo_content import (
     FigureRow,
     MemoError,
     MemoInputs,
+    Paragraph,
     Table,
     build_memo,
     fmt_estimate,
@@ -162,7 +163,7 @@ def water():
 
 def test_sections_come_in_order_with_the_title_block(water):
     *_, memo = water
-    assert [s.key for s in memo.sections] == list(SECTION_KEYS)
+    assert [s.key for s in memo.sections] == [k for k in SECTION_KEYS if k != "forecast"]  # none asked for
     assert [s.number for s in memo.sections] == list(range(1, 10))
     fields = dict(memo.title_block.fields.items)
     assert fields["Analyst"] == "R. Reviewer" and fields["Date"] == "2026-06-02"
@@ -361,3 +362,41 @@ def test_reproduction_command_carries_import_choices(tmp_path, capsys):
     out = _json.loads(capsys.readouterr().out)
     assert out["nobs"] == 31
     assert out["loglik"] == pytest.approx(_evaluate(series, spec).fit.loglik, abs=1e-8)
+
+
+def test_forecast_section_states_the_back_transform_and_equals_the_core(water):
+    # Reference: the core forecast and holdout functions, at the printed precision; the
+    # statement of the back-transform is what the memo must carry.
+    from lagwright.app.memo_cli import with_forecast
+    from lagwright.core.forecast import forecast, holdout
+
+    series, lineage, evaluations, inputs, memo = water
+    with pytest.raises(KeyError):
+        memo.section("forecast")  # none was asked for
+    log_spec = ModelSpec(D=1, s=7, sma=(1,), ar=(1,), transform=Transform("log"))
+    lin, c1 = Lineage().add_root(log_spec)
+    evs = evaluate_lineage(series, lin)
+    base = MemoInputs(series=series, lineage=lin, evaluations=evs, chosen_id=c1.id, date="2026-12-02",
+                      units="megalitres per day")
+    for back, words in (("median", "back-transformed median"), ("mean", "bias-adjusted mean")):
+        memo = build_memo(with_forecast(base, 10, back, holdout=21))
+        assert [s.key for s in memo.sections] == list(SECTION_KEYS)
+        assert [s.number for s in memo.sections] == list(range(1, len(SECTION_KEYS) + 1))
+        section = memo.section("forecast")
+        text = " ".join(b.text for b in section.blocks if isinstance(b, Paragraph))
+        assert words in text and "after 2023-12-31" in text
+        table, score_table = _tables(section)
+        fc = forecast(series, evs[c1.id].fit, 10, back)
+        assert [r.cells[1] for r in table.rows][:2] == ["2024-01-01", "2024-01-02"]
+        for h, row in enumerate(table.rows):
+            assert float(row.cells[2]) == pytest.approx(fc.point[h], rel=5e-5)
+            low, high = row.cells[4].replace(MINUS, "-").split(" – ")
+            assert float(low) == pytest.approx(fc.lower95[h], rel=5e-5)
+            assert float(high) == pytest.approx(fc.upper95[h], rel=5e-5)
+        score = holdout(series, log_spec, 21, back)
+        values = {r.cells[0]: r.cells[1] for r in score_table.rows}
+        assert float(values["RMSE"]) == pytest.approx(score.rmse, rel=5e-5)
+        assert float(values["MASE"]) == pytest.approx(score.mase, abs=5e-4)
+        assert values["95 % interval coverage"] == f"{100 * score.coverage95:.0f} %"
+    with pytest.raises(InputError, match="--holdout goes with --forecast"):
+        with_forecast(base, 0, "median", holdout=5)
