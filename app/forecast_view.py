@@ -24,6 +24,8 @@ class ForecastView(QWidget):
     """Controls, plot and scores of the forecast check; emits ``check_requested(holdout, horizon, back)``."""
 
     check_requested = Signal(int, int, str)
+    #: origins, horizon, step, back-transform
+    rolling_requested = Signal(int, int, int, str)
 
     def __init__(self, parent: QWidget | None = None):
         super().__init__(parent)
@@ -51,12 +53,37 @@ class ForecastView(QWidget):
         self.check_button.setToolTip("Refit without the holdout, score it, and forecast from the end (in the background)")
         self.check_button.clicked.connect(self._check)
         bar.addWidget(self.check_button)
+        bar.addSpacing(16)
+        bar.addWidget(QLabel("Rolling:"))
+        self.origins_box = QSpinBox()
+        self.origins_box.setRange(2, 500)
+        self.origins_box.setValue(10)
+        self.origins_box.setSuffix(" origins")
+        self.origins_box.setToolTip("Forecast origins at the end of the series; the model is re-estimated at each")
+        bar.addWidget(self.origins_box)
+        self.step_box = QSpinBox()
+        self.step_box.setRange(1, 10000)
+        self.step_box.setPrefix("every ")
+        self.step_box.setSuffix(" values")
+        self.step_box.setToolTip("Values between consecutive origins")
+        bar.addWidget(self.step_box)
+        self.rolling_button = QPushButton("Rolling check")
+        self.rolling_button.setToolTip("Refit at each origin on the data before it and score the forecasts of the "
+                                       "horizon after it (in the background)")
+        self.rolling_button.clicked.connect(self._rolling)
+        bar.addWidget(self.rolling_button)
         bar.addStretch(1)
         layout.addLayout(bar)
         self.scores = QLabel("Choose a holdout and press Check.")
         self.scores.setTextFormat(Qt.TextFormat.PlainText)
         self.scores.setWordWrap(True)
         layout.addWidget(self.scores)
+        self.rolling_label = QLabel("")
+        self.rolling_label.setTextFormat(Qt.TextFormat.PlainText)
+        self.rolling_label.setWordWrap(True)
+        self.rolling_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        layout.addWidget(self.rolling_label)
+        self.rolling = None
         colours = theme.pane_colours(theme.is_dark_palette(self.palette()))
         self.plot_widget = pg.PlotWidget(background=colours.background)
         self.plot = self.plot_widget.getPlotItem()
@@ -72,6 +99,40 @@ class ForecastView(QWidget):
         holdout = min(max(2 * season, 12) if season >= 2 else 12, max(n // 5, 1))
         self.holdout_box.setValue(holdout)
         self.horizon_box.setValue(holdout)
+
+    def _rolling(self) -> None:
+        self.rolling_requested.emit(self.origins_box.value(), self.horizon_box.value(), self.step_box.value(),
+                                    self.back_box.currentData())
+
+    def show_rolling_pending(self, label: str, origins: int) -> None:
+        self.rolling = None
+        self.rolling_label.setText(f"{label}: re-estimating at {origins} origins and forecasting from each…")
+
+    def show_rolling_message(self, message: str) -> None:
+        self.rolling = None
+        self.rolling_label.setText(message)
+
+    def show_rolling(self, score) -> None:
+        """Summarise a :class:`~lagwright.core.rolling.RollingScore`: overall and by horizon."""
+        self.rolling = score
+        if score.n_ok == 0:
+            self.rolling_label.setText("Rolling check: no origin gave a forecast — " + score.failures[0])
+            return
+        lines = [
+            f"Rolling origin: {score.n_ok} of {len(score.origins)} origins (every {score.step} values, model "
+            f"re-estimated at each), {score.horizon} steps ahead: RMSE {score.rmse:.4g}, MAE {score.mae:.4g}, "
+            f"MASE {score.mase:.3f}; inside the 80 % interval {score.coverage80:.0%}, inside the 95 % interval "
+            f"{score.coverage95:.0%}."
+        ]
+        rmse, mase = score.rmse_by_horizon(), score.mase_by_horizon()
+        shown = min(score.horizon, 12)
+        lines.append("By horizon — " + "; ".join(
+            f"h={h + 1}: RMSE {rmse[h]:.4g}, MASE {mase[h]:.2f}" for h in range(shown))
+            + (" …" if score.horizon > shown else ""))
+        failed = [f for f in score.failures if f]
+        if failed:
+            lines.append(f"{len(failed)} origin(s) failed: {failed[0]}")
+        self.rolling_label.setText("\n".join(lines))
 
     def _check(self) -> None:
         self.check_requested.emit(self.holdout_box.value(), self.horizon_box.value(), self.back_box.currentData())

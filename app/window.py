@@ -46,8 +46,9 @@ from lagwright.core.spec import ModelSpec
 
 from . import theme
 from .compare_view import CompareView
-from .forecast_view import ForecastView
 from .fit_service import FitResponse, FitService
+from .forecast_view import ForecastView
+from .gc_policy import collect_on_gui_thread
 from .hints_view import HintsView
 from .lineage_view import LineageView
 from .panes import (
@@ -126,10 +127,13 @@ class MainWindow(QMainWindow):
     def __init__(self, use_processes: bool = True, recovery_path: Path | None = None, ask_restore: bool = True,
                  prefetch: bool = False):
         super().__init__()
+        collect_on_gui_thread()  # Qt objects must never be destroyed by a collection in a fit thread
         self.prefetch = prefetch
         self._prefetched: set[ModelSpec] = set()
         #: Seconds the worker spent on the latest exact fit of this series (None before the first).
         self.exact_seconds: float | None = None
+        #: The latest forecast check of each candidate (holdout score and forecast), for the memo.
+        self.forecast_checks: dict[ModelSpec, object] = {}
         self.setWindowTitle("Lagwright")
         self.resize(1500, 940)
         self.service = FitService(use_processes=use_processes, parent=self)
@@ -284,6 +288,7 @@ class MainWindow(QMainWindow):
         self.note_edit.textChanged.connect(self._note_edited)
         self.hints_view.hint_applied.connect(self.apply_hint)
         self.forecast_view.check_requested.connect(self.check_forecast)
+        self.forecast_view.rolling_requested.connect(self.rolling_check)
         self.compare_view.forecast_requested.connect(self.compare_forecasts)
         self.service.task_finished.connect(self._on_task_finished)
         self.compare_view.pair_changed.connect(lambda a, b: self.compare_view.compare(a, b))
@@ -388,6 +393,7 @@ class MainWindow(QMainWindow):
         self.failures.clear()
         self.latest.clear()
         self._prefetched.clear()
+        self.forecast_checks.clear()
         self.exact_seconds = None
         self.drawn = None
         self._drawing = None
@@ -595,6 +601,17 @@ class MainWindow(QMainWindow):
         self._forecast_request = (self.service.submit_task(forecast_check, self.series, fit, holdout, horizon,
                                                            back_transform), spec)
 
+    def rolling_check(self, origins: int, horizon: int, step: int, back_transform: str) -> None:
+        """Rolling-origin evaluation of the candidate in view, re-estimated at each origin (in a worker)."""
+        if self.history is None:
+            return
+        from lagwright.core.rolling import rolling_origin
+
+        spec = self.current_spec
+        self.forecast_view.show_rolling_pending(spec.description, origins)
+        self._rolling_request = (self.service.submit_task(rolling_origin, self.series, spec, origins, horizon, step,
+                                                          back_transform), spec)
+
     def compare_forecasts(self, id_a: str, id_b: str, holdout: int) -> None:
         """Diebold-Mariano comparison of two candidates' one-step holdout forecasts (in a worker)."""
         if self.history is None:
@@ -609,6 +626,16 @@ class MainWindow(QMainWindow):
                                  (id_a, id_b))
 
     def _on_task_finished(self, response) -> None:
+        rolling = getattr(self, "_rolling_request", None)
+        if rolling is not None and response.request_id == rolling[0]:
+            self._rolling_request = None
+            if rolling[1] != self.current_spec:
+                return  # the user moved to another candidate: never shown
+            if response.error:
+                self.forecast_view.show_rolling_message(response.error)
+            else:
+                self.forecast_view.show_rolling(response.result)
+            return
         compare = getattr(self, "_compare_request", None)
         if compare is not None and response.request_id == compare[0]:
             self._compare_request = None
@@ -623,6 +650,8 @@ class MainWindow(QMainWindow):
         if request is None or response.request_id != request[0]:
             return  # superseded
         self._forecast_request = None
+        if not response.error and response.result is not None:
+            self.forecast_checks[request[1]] = response.result  # the memo of this candidate reports it
         if request[1] != self.current_spec:
             return  # the user moved to another candidate: never drawn
         if response.error:
@@ -835,6 +864,7 @@ class MainWindow(QMainWindow):
             self.forecast_view.shown_for = spec
             self._forecast_request = None
             self.forecast_view.show_message(f"{spec.description}: choose a holdout and press Check.")
+            self.forecast_view.show_rolling_message("")
         self._draw_current()
 
     def _draw_current(self) -> None:

@@ -124,14 +124,16 @@ def _record_requests(window, monkeypatch):
 
 def test_quick_exact_fits_are_drawn_without_a_preview(water_window, qtbot, monkeypatch):
     # When this series' exact fits take the worker less than PREVIEW_HOLD, a step asks
-    # for the exact fit alone: a preview would only hold the window up.
-    from lagwright.app.window import PREVIEW_HOLD
+    # for the exact fit alone: a preview would only hold the window up. (The hold is made
+    # long here so that a slow machine cannot turn this into the late-fit case below.)
+    from lagwright.app import window as window_module
 
+    monkeypatch.setattr(window_module, "PREVIEW_HOLD", 60.0)
     w = water_window
     requests = _record_requests(w, monkeypatch)
     drawn = []
     w.candidate_drawn.connect(drawn.append)
-    w.exact_seconds = PREVIEW_HOLD / 10
+    w.exact_seconds = 0.01
     w.add_term("ar", 1)
     wait_exact(qtbot, w)
     assert (w.current_spec, "exact") in requests and (w.current_spec, "preview") not in requests
@@ -331,6 +333,37 @@ def test_holdout_and_forecast_tab(water_window, qtbot):
     assert result.holdout.rmse == pytest.approx(direct.rmse, rel=1e-6)
     assert result.future.horizon == 14
     assert "RMSE" in w.forecast_view.scores.text() and "MASE" in w.forecast_view.scores.text()
+    # the check travels into this candidate's memo, with its back-transform stated
+    inputs = w.export_actions.memo_inputs()
+    assert inputs.forecast is result
+    from lagwright.core.memo_content import build_memo
+
+    section = build_memo(inputs).section("forecast")
+    assert section.title == "Forecast and holdout check"
+
+
+def test_rolling_origin_check_runs_in_the_background(water_window, qtbot):
+    from lagwright.core.rolling import rolling_origin
+
+    w = water_window
+    w.start_branch(ModelSpec(ar=(1,), sma=(1,), D=1, s=7))
+    wait_exact(qtbot, w)
+    w.tabs.setCurrentWidget(w.forecast_view)
+    w.forecast_view.horizon_box.setValue(7)
+    w.forecast_view.origins_box.setValue(4)
+    w.forecast_view.step_box.setValue(7)
+    w.forecast_view.rolling_button.click()
+    assert "re-estimating at 4 origins" in w.forecast_view.rolling_label.text()
+    qtbot.waitUntil(lambda: w.forecast_view.rolling is not None, timeout=TIMEOUT)
+    score = w.forecast_view.rolling
+    # Reference: the core function called directly (its numbers are tested in tests/test_rolling.py).
+    direct = rolling_origin(w.series, w.current_spec, 4, 7, 7)
+    np.testing.assert_allclose(score.errors, direct.errors, rtol=1e-10)
+    assert "Rolling origin: 4 of 4 origins" in w.forecast_view.rolling_label.text()
+    w.forecast_view.origins_box.setValue(500)
+    w.forecast_view.step_box.setValue(7)
+    w.forecast_view.rolling_button.click()
+    qtbot.waitUntil(lambda: "use fewer origins" in w.forecast_view.rolling_label.text(), timeout=TIMEOUT)
 
 
 def test_order_screen_dialog_adds_candidates(make_window, qtbot):
@@ -419,3 +452,21 @@ def test_pulse_at_a_selected_outlier_is_a_step_with_its_date(water_window, qtbot
     # Delete drops what the step added: back to a candidate with the root's spec
     w.drop_last_added()
     qtbot.waitUntil(lambda: w.current_spec == root, timeout=TIMEOUT)
+
+
+def test_cycles_are_collected_on_the_gui_thread_only(water_window, qtbot):
+    # Automatic collection is off while a window lives; a GUI-thread timer collects instead,
+    # so Qt objects in reference cycles are never destroyed in a fit thread.
+    import gc
+    import weakref
+
+    from PySide6.QtCore import QObject
+
+    assert not gc.isenabled()
+    holder = QObject()
+    holder.cycle = holder  # a reference cycle holding a Qt object
+    gone = weakref.ref(holder)
+    del holder
+    kept = [[] for _ in range(5000)]  # live allocations past the first-generation threshold
+    qtbot.waitUntil(lambda: gone() is None, timeout=15000)
+    assert len(kept) == 5000
