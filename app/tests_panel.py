@@ -287,6 +287,8 @@ class TestsPanel(QWidget):
     def __init__(self, parent: QWidget | None = None):
         super().__init__(parent)
         self._evaluation = None
+        #: ``date_of(position)`` names an intervention's observation by date (set by the window).
+        self.date_of = None
 
         self.title_label = QLabel("No candidate")
         font = self.title_label.font()
@@ -508,8 +510,15 @@ class TestsPanel(QWidget):
             weak = est.weak
             flag = Cell("|z| < 2", TOOLTIPS["weak"], colour=theme.ATTENTION) if weak else Cell("")
             name_tip = TOOLTIPS["weak"] if weak else TOOLTIPS["estimate"]
+            shown = est.name
+            for item in fit.spec.interventions:
+                if item.name == est.name:  # an intervention is named by its date where the series has dates
+                    when = self.date_of(item.position) if self.date_of is not None else None
+                    shown = f"{item.kind} {when}" if when else est.name
+                    name_tip = f"{item.label[0].upper()}{item.label[1:]} ({est.name}): its effect on the modelled " \
+                               "series. " + name_tip
             rows.append((est.name, [
-                Cell(est.name, name_tip, colour=theme.ATTENTION if weak else None),
+                Cell(shown, name_tip, colour=theme.ATTENTION if weak else None),
                 _num(est.value, TOOLTIPS["estimate"]),
                 _num(est.se, TOOLTIPS["se"]),
                 _num(est.stat, TOOLTIPS["t"], colour=theme.ATTENTION if weak else None),

@@ -279,6 +279,7 @@ class MainWindow(QMainWindow):
         self.term_bar.term_added.connect(self.add_term)
         self.term_bar.term_dropped.connect(self.drop_term)
         self.term_bar.constant_chosen.connect(self.set_constant)
+        self.tests_panel.date_of = self.date_of
         self.term_bar.intervention_added.connect(self.add_intervention)
         self.term_bar.intervention_dropped.connect(self.drop_intervention)
         self.prepare_bar.preparation_changed.connect(self._preview_preparation)

@@ -447,6 +447,8 @@ def test_pulse_at_a_selected_outlier_is_a_step_with_its_date(water_window, qtbot
     fit = w.exact_fit(child.spec)
     name = f"pulse.t{position + 1}"
     assert name in w.tests_panel.tables["params"].keys()
+    row = w.tests_panel.tables["params"].row_of(name)
+    assert w.tests_panel.tables["params"].text(row, 0) == f"pulse {date}"
     assert abs(fit.param(name).stat) > 2  # the selected outlier is a real one-off effect
     assert any(chip.property("intervention") == ("pulse", position) for chip in w.term_bar.chip_buttons)
     # Delete drops what the step added: back to a candidate with the root's spec
