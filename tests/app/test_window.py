@@ -426,7 +426,7 @@ def test_compare_view_forecasts_and_akaike_weights(water_window, qtbot):
     assert "Diebold-Mariano" in w.compare_view.forecast_label.text()
 
 
-def test_pulse_at_a_selected_outlier_is_a_step_with_its_date(water_window, qtbot):
+def test_pulse_at_a_selected_outlier_is_a_step_with_its_date(water_window, qtbot, make_window, tmp_path):
     # The largest standardized residual of the root is selected, as a click on it would;
     # "+Pulse" then makes a child with a pulse regressor there, named by its date.
     w = water_window
@@ -451,6 +451,14 @@ def test_pulse_at_a_selected_outlier_is_a_step_with_its_date(water_window, qtbot
     assert w.tests_panel.tables["params"].text(row, 0) == f"pulse {date}"
     assert abs(fit.param(name).stat) > 2  # the selected outlier is a real one-off effect
     assert any(chip.property("intervention") == ("pulse", position) for chip in w.term_bar.chip_buttons)
+    # the session keeps it: reopened, the same candidate and the same numbers
+    path = tmp_path / "event.lagwright.json"
+    assert w.save_to(path)
+    other = make_window()
+    assert other.open_session(path)
+    wait_exact(qtbot, other)
+    assert other.current_spec == child.spec and other.lineage.get(child.id).step == child.step
+    assert other.exact_fit(child.spec).loglik == pytest.approx(fit.loglik, abs=1e-8)
     # Delete drops what the step added: back to a candidate with the root's spec
     w.drop_last_added()
     qtbot.waitUntil(lambda: w.current_spec == root, timeout=TIMEOUT)
