@@ -236,7 +236,11 @@ class FitService(QObject):
             except RuntimeError:  # the service was deleted while the fit ran
                 pass
 
-        if QThread.currentThread() is self.thread():
+        try:
+            in_gui_thread = QThread.currentThread() is self.thread()
+        except RuntimeError:  # the service is gone with its window: nobody is waiting
+            return
+        if in_gui_thread:
             QTimer.singleShot(0, self, emit)
         else:
             emit()
@@ -247,7 +251,9 @@ class FitService(QObject):
             return len(self._pending)
 
     def shutdown(self, wait: bool = True) -> None:
-        """Stop the workers (waiting for running fits when ``wait``)."""
+        """Stop the workers (waiting for running fits when ``wait``); nothing more will be delivered."""
         for executor in (self._threads, self._exact_threads, self._preview_processes, self._processes):
             if executor is not None:
                 executor.shutdown(wait=wait, cancel_futures=True)
+        with self._lock:  # answers still on their way are for a window that is closing
+            self._pending.clear()

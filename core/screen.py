@@ -119,6 +119,17 @@ def _preview_criterion(series: Series, spec: ModelSpec, name: str, n: int) -> fl
     return -2 * loglik + k * math.log(n)
 
 
+def _preview_chunk(series: Series, specs: list[ModelSpec], criterion: str, n: int) -> list[float]:
+    """Preview scores of several orders (one worker job; a job per order cost more in transfers)."""
+    out = []
+    for spec in specs:
+        try:
+            out.append(_preview_criterion(series, spec, criterion, n))
+        except LagwrightError:
+            out.append(math.inf)
+    return out
+
+
 def _init_worker() -> None:
     for var in _THREAD_VARS:
         os.environ[var] = "1"
@@ -173,19 +184,45 @@ def screen(
         raise InputError(f"Unknown criterion '{criterion}'; use one of {', '.join(CRITERIA)}.")
     specs = orders(base, max_p, max_q, max_P, max_Q)
     total = len(specs) * 2
-    done = 0
     n_used = prepare(series, base).n_observed
+    workers = workers or os.cpu_count() or 1
+    pool = None
+    if workers > 1:
+        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("spawn"),
+                                   initializer=_init_worker)
+    try:
+        return _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, progress, cancelled)
+    finally:
+        if pool is not None:
+            pool.shutdown(wait=True, cancel_futures=True)
+
+
+def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, progress, cancelled) -> ScreenResult:
+    from concurrent.futures import as_completed
+
     previews: dict[ModelSpec, float] = {}
-    for spec in specs:
-        if cancelled is not None and cancelled():
-            return ScreenResult(criterion, (), 0, cancelled=True)
-        try:
-            previews[spec] = _preview_criterion(series, spec, criterion, n_used)
-        except LagwrightError:
-            previews[spec] = math.inf
-        done += 1
-        if progress is not None:
-            progress(done / total)
+    if pool is None:
+        for i, spec in enumerate(specs, start=1):
+            if cancelled is not None and cancelled():
+                return ScreenResult(criterion, (), 0, cancelled=True)
+            previews.update(zip([spec], _preview_chunk(series, [spec], criterion, n_used)))
+            if progress is not None:
+                progress(i / total)
+    else:  # the previews too are shared out among the workers, a few orders per job
+        size = max(1, math.ceil(len(specs) / (4 * workers)))
+        chunks = [specs[i:i + size] for i in range(0, len(specs), size)]
+        futures = {pool.submit(_preview_chunk, series, chunk, criterion, n_used): chunk for chunk in chunks}
+        done = 0
+        for future in as_completed(futures):
+            chunk = futures[future]
+            previews.update(zip(chunk, future.result()))
+            done += len(chunk)
+            if progress is not None:
+                progress(done / total)
+            if cancelled is not None and cancelled():
+                for other in futures:
+                    other.cancel()
+                return ScreenResult(criterion, (), 0, cancelled=True)
     ranked = sorted(specs, key=lambda s: previews[s])
     best = previews[ranked[0]]
     leaders = [s for i, s in enumerate(ranked)
@@ -193,32 +230,27 @@ def screen(
     rows: dict[ModelSpec, ScreenRow] = {
         s: ScreenRow(s, previews[s], False, False, math.nan, "screened out by the preview") for s in specs
     }
-    workers = workers or os.cpu_count() or 1
     was_cancelled = False
-    if workers <= 1:
-        for spec in leaders:
+    if pool is None:
+        for i, spec in enumerate(leaders, start=1):
             if cancelled is not None and cancelled():
                 was_cancelled = True
                 break
             rows[spec] = _exact_job(series, spec, criterion, maxiter)
-            done += 2 * len(specs) / max(len(leaders), 1) / 2
             if progress is not None:
-                progress(min(done / total, 1.0))
+                progress(0.5 + 0.5 * i / len(leaders))
     else:
-        context = multiprocessing.get_context("spawn")
-        with ProcessPoolExecutor(max_workers=min(workers, len(leaders)), mp_context=context,
-                                 initializer=_init_worker) as pool:
-            futures = {pool.submit(_exact_job, series, spec, criterion, maxiter): spec for spec in leaders}
-            from concurrent.futures import as_completed
-
-            for i, future in enumerate(as_completed(futures), start=1):
-                rows[futures[future]] = future.result()
-                if progress is not None:
-                    progress(0.5 + 0.5 * i / len(leaders))
-                if cancelled is not None and cancelled():
-                    was_cancelled = True
-                    for other in futures:
-                        other.cancel()
-                    break
+        # the costliest orders first, so that no worker is left with a long fit at the end
+        leaders = sorted(leaders, key=lambda s: -s.n_arma_coefficients)
+        futures = {pool.submit(_exact_job, series, spec, criterion, maxiter): spec for spec in leaders}
+        for i, future in enumerate(as_completed(futures), start=1):
+            rows[futures[future]] = future.result()
+            if progress is not None:
+                progress(0.5 + 0.5 * i / len(leaders))
+            if cancelled is not None and cancelled():
+                was_cancelled = True
+                for other in futures:
+                    other.cancel()
+                break
     ordered = sorted(rows.values(), key=lambda r: (not r.exact, r.criterion))
     return ScreenResult(criterion, tuple(ordered), sum(r.exact for r in ordered), cancelled=was_cancelled)
