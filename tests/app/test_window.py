@@ -316,13 +316,18 @@ def test_import_choices_travel_with_the_session(make_window, qtbot, tmp_path):
     np.testing.assert_allclose(other.series.values, w.series.values)
 
 
-def test_holdout_and_forecast_tab(water_window, qtbot):
-    from lagwright.core.forecast import holdout as core_holdout
-
-    w = water_window
+def _on_forecast_tab(w, qtbot):
+    """The sample's seasonal model fitted, with the forecast tab in view."""
     w.start_branch(ModelSpec(ar=(1,), sma=(1,), D=1, s=7))
     wait_exact(qtbot, w)
     w.tabs.setCurrentWidget(w.forecast_view)
+    return w
+
+
+def test_holdout_and_forecast_tab(water_window, qtbot):
+    from lagwright.core.forecast import holdout as core_holdout
+
+    w = _on_forecast_tab(water_window, qtbot)
     w.forecast_view.holdout_box.setValue(28)
     w.forecast_view.horizon_box.setValue(14)
     w.forecast_view.check_button.click()
@@ -345,10 +350,7 @@ def test_holdout_and_forecast_tab(water_window, qtbot):
 def test_rolling_origin_check_runs_in_the_background(water_window, qtbot):
     from lagwright.core.rolling import rolling_origin
 
-    w = water_window
-    w.start_branch(ModelSpec(ar=(1,), sma=(1,), D=1, s=7))
-    wait_exact(qtbot, w)
-    w.tabs.setCurrentWidget(w.forecast_view)
+    w = _on_forecast_tab(water_window, qtbot)
     w.forecast_view.horizon_box.setValue(7)
     w.forecast_view.origins_box.setValue(4)
     w.forecast_view.step_box.setValue(7)
