@@ -53,8 +53,10 @@ class ForecastView(QWidget):
         self.check_button.setToolTip("Refit without the holdout, score it, and forecast from the end (in the background)")
         self.check_button.clicked.connect(self._check)
         bar.addWidget(self.check_button)
-        bar.addSpacing(16)
-        bar.addWidget(QLabel("Rolling:"))
+        bar.addStretch(1)
+        layout.addLayout(bar)
+        bar = QHBoxLayout()  # the rolling check on a row of its own: one row of both was too wide
+        bar.addWidget(QLabel("Rolling origin: re-estimate at"))
         self.origins_box = QSpinBox()
         self.origins_box.setRange(2, 500)
         self.origins_box.setValue(10)
@@ -67,6 +69,7 @@ class ForecastView(QWidget):
         self.step_box.setSuffix(" values")
         self.step_box.setToolTip("Values between consecutive origins")
         bar.addWidget(self.step_box)
+        bar.addWidget(QLabel("for the horizon above"))
         self.rolling_button = QPushButton("Rolling check")
         self.rolling_button.setToolTip("Refit at each origin on the data before it and score the forecasts of the "
                                        "horizon after it (in the background)")

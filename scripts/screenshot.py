@@ -8,8 +8,9 @@ It opens the default sample, prepares it (seasonal difference, s = 7), grows
 a model by three steps with notes, waits for every exact fit, and saves:
 ``main.png`` (the residual panes), ``intervention.png`` (after a pulse at the
 largest residual), ``roots.png`` (periodogram and roots tab),
-``prepared.png`` (identification tab) and ``compare.png`` (the side-by-side
-view of the last step).
+``prepared.png`` (identification tab), ``compare.png`` (the side-by-side
+view of the last step) and ``forecast.png`` (holdout, forecast and rolling
+check).
 """
 
 from __future__ import annotations
@@ -77,8 +78,25 @@ def main() -> int:
     window.compare_with_parent()
     settle()
     window.grab().save(str(out / "compare.png"))
+    view = window.forecast_view
+    window.tabs.setCurrentWidget(view)
+    view.holdout_box.setValue(28)
+    view.horizon_box.setValue(14)
+    view.origins_box.setValue(6)
+    view.step_box.setValue(7)
+    view.check_button.click()
+    end = time.time() + 120
+    while view.result is None and time.time() < end:
+        app.processEvents()
+        time.sleep(0.01)
+    view.rolling_button.click()
+    while view.rolling is None and time.time() < end:
+        app.processEvents()
+        time.sleep(0.01)
+    settle()
+    window.grab().save(str(out / "forecast.png"))
     window.close()
-    print(f"saved main.png, intervention.png, roots.png, prepared.png, compare.png in {out}")
+    print(f"saved main.png, intervention.png, roots.png, prepared.png, compare.png, forecast.png in {out}")
     return 0
 
 
