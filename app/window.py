@@ -459,8 +459,20 @@ class MainWindow(QMainWindow):
         self._step(lambda spec: spec.with_constant(constant))
 
     def add_intervention(self, kind: str, position: int) -> None:
-        """Add a pulse or level-shift regressor at observation ``position`` (0-based) as a step."""
-        self._step(lambda spec: spec.with_intervention(kind, position))
+        """Add a pulse or level-shift regressor at observation ``position`` (0-based) as a step.
+
+        One that the data cannot estimate (on a gap, or among the observations
+        differencing uses up) is refused with the reason, and no step is made.
+        """
+        from lagwright.core.interventions import check_interventions
+
+        def change(spec):
+            new = spec.with_intervention(kind, position)
+            if self.series is not None:
+                check_interventions(new, len(self.series), self.series.name, self.series.values)
+            return new
+
+        self._step(change)
 
     def drop_intervention(self, kind: str, position: int) -> None:
         self._step(lambda spec: spec.without_intervention(kind, position))

@@ -46,20 +46,27 @@ def regressors(spec: ModelSpec, n: int, future: int = 0) -> np.ndarray:
     return np.column_stack([regressor_column(item, n, future) for item in spec.interventions])
 
 
-def check_interventions(spec: ModelSpec, n: int, series_name: str = "series") -> None:
+def check_interventions(spec: ModelSpec, n: int, series_name: str = "series", values=None) -> None:
     """Raise :class:`InputError` when an intervention cannot be estimated on ``n`` observations.
 
     An intervention must fall inside the series and after the observations
     lost to differencing (before them, its differenced regressor has no
-    non-zero value), and a level shift at the first kept observation of an
-    undifferenced series with a mean is the mean itself.
+    non-zero value), a level shift at the first kept observation of an
+    undifferenced series with a mean is the mean itself, and a pulse on a
+    missing value (``values`` NaN there) has no data to measure it.
     """
     lost = spec.lost_observations
     for item in spec.interventions:
         if item.position >= n:
             raise InputError(
-                f"The {item.label} is beyond the end of '{series_name}' ({n} values); "
-                "choose an observation inside the series."
+                f"The {item.label} is beyond the end of '{series_name}' ({n} values): its effect cannot be "
+                "estimated from these data (a holdout or forecast origin before it leaves none). Choose an "
+                "observation inside the data, or drop the intervention for this check."
+            )
+        if item.kind == "pulse" and values is not None and np.isnan(values[item.position]):
+            raise InputError(
+                f"The {item.label} falls on a missing value of '{series_name}': there is nothing to measure "
+                "its effect on. Choose an observed value, or fill the gap on import."
             )
         if item.position < lost or (item.kind == "level" and item.position == lost and spec.has_constant):
             raise InputError(

@@ -172,7 +172,7 @@ def prepare(series: Series, spec: ModelSpec) -> PreparedSeries:
             "removed all variation. Use less differencing."
         )
     w.setflags(write=False)
-    check_interventions(spec, len(series), series.name)
+    check_interventions(spec, len(series), series.name, series.values)
     x = differenced_regressors(spec, len(series))
     x.setflags(write=False)
     return PreparedSeries(values=w, offset=lost, transform=spec.transform, d=spec.d, D=spec.D, s=spec.s,

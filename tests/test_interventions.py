@@ -140,6 +140,16 @@ def test_interventions_that_cannot_be_estimated_say_why(ar1_with_events, spec, m
         fit_exact(ar1_with_events, spec)
 
 
+def test_a_pulse_on_a_missing_value_is_refused(ar1_with_events):
+    values = ar1_with_events.values.copy()
+    values[100] = np.nan
+    gappy = Series(values, name="invented sensor with a gap")
+    with pytest.raises(InputError, match="falls on a missing value"):
+        fit_exact(gappy, ModelSpec(constant="mean").with_intervention("pulse", 100))
+    fit = fit_exact(gappy, ModelSpec(constant="mean").with_intervention("level", 100))  # a shift is still seen after
+    assert fit.ok and np.isfinite(fit.param("level.t101").se)
+
+
 def test_a_large_outlier_is_hinted_as_a_pulse_and_a_weak_one_as_a_drop():
     # Invented white noise around 10 with one reading 8 sd too high at t = 70 (common practice:
     # |z| > 4 is beyond chance at these lengths).

@@ -482,3 +482,24 @@ def test_cycles_are_collected_on_the_gui_thread_only(water_window, qtbot):
     kept = [[] for _ in range(5000)]  # live allocations past the first-generation threshold
     qtbot.waitUntil(lambda: gone() is None, timeout=15000)
     assert len(kept) == 5000
+
+
+def test_an_intervention_the_data_cannot_estimate_is_refused_without_a_step(water_window):
+    w = water_window  # the root has no differencing, but a mean: a level shift at the first value is the mean
+    before = len(w.lineage)
+    w.add_intervention("level", 0)
+    assert len(w.lineage) == before
+    assert "cannot be estimated" in w.banner_label.text()
+
+
+def test_a_pulse_hint_applied_names_the_date_in_the_step(water_window, qtbot):
+    from lagwright.core.hints import Hint
+
+    w = water_window
+    hint = Hint("add", "pulse", 120, "A residual far beyond chance.", "z = +4.50 at obs. 121", 2.5)
+    w.apply_hint(hint)
+    child = w.lineage.get(w.current_id)
+    date = w.series.time_labels()[120]
+    assert child.origin == "hint" and child.step == f"add pulse at {date} (obs. 121)"
+    assert child.note == "A residual far beyond chance. (z = +4.50 at obs. 121)"
+    wait_exact(qtbot, w)
