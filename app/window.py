@@ -132,6 +132,8 @@ class MainWindow(QMainWindow):
         self._prefetched: set[ModelSpec] = set()
         #: Seconds the worker spent on the latest exact fit of this series (None before the first).
         self.exact_seconds: float | None = None
+        self._labels: list[str] = []
+        self._labels_for: Series | None = None
         #: The latest forecast check of each candidate (holdout score and forecast), for the memo.
         self.forecast_checks: dict[ModelSpec, object] = {}
         self.setWindowTitle("Lagwright")
@@ -490,7 +492,14 @@ class MainWindow(QMainWindow):
         """The date of observation ``position`` (0-based), or ``None`` for an undated series."""
         if self.series is None or self.series.times is None or not 0 <= position < len(self.series):
             return None
-        return self.series.time_labels()[position]
+        return self.time_labels()[position]
+
+    def time_labels(self) -> list[str]:
+        """The series' time labels, made once per series (about 40 ms at 10⁵ stamps: not per redraw)."""
+        if self._labels_for is not self.series:
+            self._labels = self.series.time_labels() if self.series is not None else []
+            self._labels_for = self.series
+        return self._labels
 
     def _add_next(self, kind: str) -> None:
         spec = self.current_spec
@@ -994,7 +1003,7 @@ class MainWindow(QMainWindow):
         if self.series is None or not positions:
             self.term_bar.set_selected_observation(None)
             return
-        labels = self.series.time_labels()
+        labels = self.time_labels()
         if len(positions) == 1 and 0 <= positions[0] < len(self.series):
             self.term_bar.set_selected_observation(int(positions[0]), labels[positions[0]] if self.series.times
                                                    is not None else f"observation {positions[0] + 1}")
