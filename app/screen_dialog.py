@@ -1,6 +1,8 @@
 """The order-screen dialog: rank every order up to limits, in the background, and keep the best few.
 
-The screen runs on a worker thread (its exact fits in worker processes);
+The screen runs on a worker thread (its fits in worker processes, which the
+window starts when the dialog first opens and keeps, so they are ready by
+the time the limits are set);
 progress arrives by signal and *Cancel* stops it between fits. Chosen rows
 are added to the lineage as new candidates marked as coming from the screen.
 """
@@ -40,11 +42,12 @@ class ScreenDialog(QDialog):
 
     candidates_chosen = Signal(list)
 
-    def __init__(self, series: Series, base: ModelSpec, parent=None, workers: int | None = None):
+    def __init__(self, series: Series, base: ModelSpec, parent=None, workers: int | None = None, running=None):
         super().__init__(parent)
         self.setWindowTitle("Order screen")
         self.resize(640, 520)
         self.series, self.base, self.workers = series, base, workers
+        self.running = running  # worker processes kept by the window (core.screen.start_workers), or None
         self.result = None
         self._cancel = threading.Event()
         self._thread: threading.Thread | None = None
@@ -117,7 +120,7 @@ class ScreenDialog(QDialog):
 
         try:
             result = screen(self.series, self.base, limits["p"], limits["q"], limits["P"], limits["Q"],
-                            criterion=criterion, workers=self.workers,
+                            criterion=criterion, workers=self.workers, running=self.running,
                             progress=self._relay.progressed.emit, cancelled=self._cancel.is_set)
             self._relay.finished.emit(result, "")
         except LagwrightError as exc:

@@ -139,6 +139,7 @@ class MainWindow(QMainWindow):
         self.setWindowTitle("Lagwright")
         self.resize(1500, 940)
         self.service = FitService(use_processes=use_processes, parent=self)
+        self._screen_workers = None  # the order screen's worker processes (see _screen_workers_for)
         self.service.fit_finished.connect(self._on_fit_finished)
         self.series: Series | None = None
         self.data_ref = DataReference()
@@ -584,10 +585,23 @@ class MainWindow(QMainWindow):
 
         base = self.current_spec
         base = ModelSpec(d=base.d, D=base.D, s=base.s, transform=base.transform, constant=base.constant)
-        dialog = ScreenDialog(self.series, base, self, workers=workers)
+        dialog = ScreenDialog(self.series, base, self, workers=workers, running=self._screen_workers_for(workers))
         dialog.candidates_chosen.connect(self.add_screened)
         dialog.show()
         return dialog
+
+    def _screen_workers_for(self, workers: int | None):
+        """The screen's worker processes: started at the first screen, kept until the window closes."""
+        if workers is not None and workers <= 1:
+            return None
+        if self._screen_workers is None:
+            from lagwright.core.screen import start_workers
+
+            try:
+                self._screen_workers = start_workers(workers)
+            except (OSError, ValueError):  # no processes here: the screen runs its fits in its own thread
+                return None
+        return self._screen_workers
 
     def add_screened(self, specs: list) -> None:
         """Add orders chosen in the screen as new candidates (marked as coming from the screen)."""
@@ -1123,6 +1137,9 @@ class MainWindow(QMainWindow):
     def closeEvent(self, event) -> None:  # noqa: N802 - Qt override
         self._autosave_timer.stop()
         self.service.shutdown(wait=False)
+        if self._screen_workers is not None:
+            self._screen_workers.shutdown()
+            self._screen_workers = None
         try:
             self.recovery_path.unlink(missing_ok=True)
         except OSError:

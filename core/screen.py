@@ -9,6 +9,12 @@ an iteration cap so a candidate that cannot converge stops early and says
 so. The ranking is by the exact criterion; orders screened out by the
 preview keep their preview score and are marked as such.
 
+Starting the worker processes (a spawn and a statsmodels import each) costs
+about as much as the whole screen of 25 orders at n = 1,000, so a caller
+that screens more than once, or can start early, keeps them:
+:func:`start_workers` (the window starts them when the screen dialog first
+opens, while the user sets the limits).
+
 Warm starts from neighbouring orders are deliberately not used: measured
 here, they sometimes stopped at worse optima than a cold start.
 """
@@ -139,6 +145,43 @@ def _init_worker() -> None:
         threadpool_limits(1)
     except ImportError:  # the environment variables above cover a fresh process
         pass
+    # The heavy import (about a second here) is paid when the worker starts, not by the first fit.
+    import statsmodels.tsa.arima.model  # noqa: F401
+
+
+def _ready() -> bool:
+    return True
+
+
+@dataclass(frozen=True)
+class ScreenWorkers:
+    """Running worker processes for :func:`screen` (from :func:`start_workers`)."""
+
+    pool: ProcessPoolExecutor
+    count: int
+
+    def shutdown(self, wait: bool = False) -> None:
+        """Stop the workers; fits not yet started are dropped."""
+        self.pool.shutdown(wait=wait, cancel_futures=True)
+
+
+def start_workers(workers: int | None = None) -> ScreenWorkers | None:
+    """Worker processes for :func:`screen`, started now and made ready in the background.
+
+    Starting a worker and importing statsmodels in it takes longer than
+    screening 25 orders, so a caller that will screen (the window, when the
+    screen dialog opens) starts them early and passes them to every
+    :func:`screen`. Returns None for one worker (fits then run in the
+    caller's process). The caller shuts the pool down.
+    """
+    workers = workers or os.cpu_count() or 1
+    if workers <= 1:
+        return None
+    pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("spawn"),
+                               initializer=_init_worker)
+    for _ in range(workers):  # each submission starts one worker, which imports while the caller waits for input
+        pool.submit(_ready)
+    return ScreenWorkers(pool, workers)
 
 
 def _exact_job(series: Series, spec: ModelSpec, criterion: str, maxiter: int) -> ScreenRow:
@@ -166,6 +209,7 @@ def screen(
     maxiter: int = 200,
     progress: Callable[[float], None] | None = None,
     cancelled: Callable[[], bool] | None = None,
+    running: ScreenWorkers | None = None,
 ) -> ScreenResult:
     """Screen every order up to the limits; see the module docstring.
 
@@ -173,7 +217,10 @@ def screen(
     ----------
     workers : int, optional
         Worker processes for the exact fits (default: the number of cores);
-        1 runs them in this process.
+        1 runs them in this process. Ignored when ``pool`` is given.
+    running : ScreenWorkers, optional
+        Workers from :func:`start_workers`, used and left running; without
+        them the screen starts its own and shuts them down at the end.
     progress : callable, optional
         Called with the fraction done.
     cancelled : callable, optional
@@ -185,16 +232,16 @@ def screen(
     specs = orders(base, max_p, max_q, max_P, max_Q)
     total = len(specs) * 2
     n_used = prepare(series, base).n_observed
-    workers = workers or os.cpu_count() or 1
-    pool = None
-    if workers > 1:
-        pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("spawn"),
-                                   initializer=_init_worker)
+    if running is not None:
+        return _screen(series, specs, criterion, n_used, total, running.pool, running.count, maxiter, progress,
+                       cancelled)
+    own = start_workers(workers)
     try:
-        return _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, progress, cancelled)
+        return _screen(series, specs, criterion, n_used, total, own.pool if own else None, own.count if own else 1,
+                       maxiter, progress, cancelled)
     finally:
-        if pool is not None:
-            pool.shutdown(wait=True, cancel_futures=True)
+        if own is not None:
+            own.shutdown(wait=True)
 
 
 def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, progress, cancelled) -> ScreenResult:

@@ -9,7 +9,7 @@ import pytest
 from scipy import signal
 
 from lagwright.core.errors import InputError
-from lagwright.core.screen import orders, screen
+from lagwright.core.screen import orders, screen, start_workers
 from lagwright.core.series import Series
 from lagwright.core.spec import ModelSpec
 
@@ -44,6 +44,21 @@ def test_same_top_three_as_sequential_exact_fits(series):
 def test_screen_in_worker_processes(series):
     result = screen(series, ModelSpec(constant="mean"), 1, 1, workers=2)
     assert result.rows[0].spec.ar == (1,) and result.rows[0].spec.ma == (1,)
+
+
+def test_kept_workers_serve_several_screens_and_agree_with_the_sequential_run(series):
+    # Reference: the same screen run in this process (itself checked against statsmodels above).
+    inline = screen(series, ModelSpec(constant="mean"), 1, 1, workers=1)
+    running = start_workers(2)
+    try:
+        first = screen(series, ModelSpec(constant="mean"), 1, 1, running=running)
+        second = screen(series, ModelSpec(constant="mean"), 1, 1, criterion="bic", running=running)
+        assert running.pool.submit(abs, -3).result(timeout=60) == 3  # still running after both screens
+    finally:
+        running.shutdown(wait=True)
+    assert [r.spec for r in first.rows] == [r.spec for r in inline.rows]
+    assert [r.criterion for r in first.rows] == pytest.approx([r.criterion for r in inline.rows], abs=1e-6)
+    assert second.criterion == "bic" and second.rows[0].exact
 
 
 def test_progress_and_cancel(series):

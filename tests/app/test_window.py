@@ -389,6 +389,30 @@ def test_order_screen_dialog_adds_candidates(make_window, qtbot):
     dialog.done(0)
 
 
+def test_order_screen_workers_are_started_once_and_stopped_with_the_window(make_window, qtbot):
+    w = make_window()
+    assert w.open_sample("coldstore_temperature")
+    wait_exact(qtbot, w)
+    w.start_branch(ModelSpec(constant="mean"))
+    wait_exact(qtbot, w)
+    first = w.open_screen(workers=2)
+    assert first.running is not None and first.running.count == 2
+    first.boxes["p"].setValue(1)
+    first.boxes["q"].setValue(1)
+    first.start()
+    qtbot.waitUntil(lambda: first.result is not None, timeout=TIMEOUT)
+    first.wait()
+    first.done(0)
+    second = w.open_screen(workers=2)
+    assert second.running is first.running  # kept: no second start-up
+    second.done(0)
+    pool = first.running.pool
+    w.close()
+    assert w._screen_workers is None
+    with pytest.raises(RuntimeError):  # shut down with the window
+        pool.submit(abs, -1)
+
+
 def test_order_screen_cancel(make_window, qtbot):
     w = make_window()
     assert w.open_sample("coldstore_temperature")
