@@ -46,30 +46,56 @@ def bar_brushes(values: np.ndarray, band: float, data_colour: str) -> tuple[list
     return pens, brushes
 
 
+def correlation_items() -> dict[str, object]:
+    """The items of one correlation plot, empty: bars, the band's two lines and the zero line."""
+    band_pen = make_pen(theme.BAND, width=1.3, style=Qt.PenStyle.DashLine)
+    return {
+        "bars": pg.BarGraphItem(x=[], height=[], width=BAR_WIDTH),
+        "upper": pg.InfiniteLine(0.0, angle=0, pen=band_pen),
+        "lower": pg.InfiniteLine(0.0, angle=0, pen=band_pen),
+        "zero": pg.InfiniteLine(0.0, angle=0, pen=make_pen(theme.REFERENCE, width=1)),
+    }
+
+
+def kept_correlation_items(acf_plot: pg.PlotItem, pacf_plot: pg.PlotItem) -> dict:
+    """Kept items (see ``ResidualPane.kept_items``) of an ACF and a PACF plot, named ``acf_*`` and ``pacf_*``."""
+    return {plot: {f"{prefix}_{key}": item for key, item in correlation_items().items()}
+            for plot, prefix in ((acf_plot, "acf"), (pacf_plot, "pacf"))}
+
+
+def items_of(kept: dict, prefix: str) -> dict:
+    """The kept items of one plot (``prefix`` "acf" or "pacf"), under their short names."""
+    return {key: kept[f"{prefix}_{key}"] for key in ("bars", "upper", "lower", "zero")}
+
+
 def draw_correlation_bars(
-    plot: pg.PlotItem, lags: np.ndarray, values: np.ndarray, band: float, season: int, data_colour: str
+    plot: pg.PlotItem, items: dict, lags: np.ndarray, values: np.ndarray, band: float, season: int,
+    data_colour: str,
 ) -> BarSet:
-    """Draw one set of correlation bars with its band, zero line and seasonal marks on ``plot``."""
+    """Give one plot's kept ``items`` new bars and band; add the seasonal marks; set the ranges."""
     lags = np.asarray(lags, dtype=float)
     values = np.asarray(values, dtype=float)
     pens, brushes = bar_brushes(values, band, data_colour)
-    bars = pg.BarGraphItem(x=lags, height=np.nan_to_num(values), width=BAR_WIDTH, pens=pens, brushes=brushes)
-    band_pen = make_pen(theme.BAND, width=1.3, style=Qt.PenStyle.DashLine)
-    band_lines = (pg.InfiniteLine(band, angle=0, pen=band_pen), pg.InfiniteLine(-band, angle=0, pen=band_pen))
-    zero = pg.InfiniteLine(0.0, angle=0, pen=make_pen(theme.REFERENCE, width=1))
+    bars = items["bars"]
+    bars.setOpts(x=lags, height=np.nan_to_num(values), width=BAR_WIDTH, pens=pens, brushes=brushes)
+    items["upper"].setValue(band)
+    items["lower"].setValue(-band)
     marks = []
     nlags = int(lags[-1]) if lags.size else 0
     if season >= 2:
         mark_pen = make_pen(theme.REFERENCE, width=1, style=Qt.PenStyle.DotLine, alpha=0.55)
         marks = [pg.InfiniteLine(float(m), angle=90, pen=mark_pen) for m in range(season, nlags + 1, season)]
-    for item in (*marks, zero, *band_lines, bars):
+    for item in marks:
         plot.addItem(item)
+    for item in items.values():
+        item.setVisible(True)
     finite = values[np.isfinite(values)]
     lim = max(2.5 * band, float(np.max(np.abs(finite))) if finite.size else 0.0) * 1.12
     lim = min(steady_limit(max(lim, 0.1), 0.05), 1.05)
     plot.setYRange(-lim, lim, padding=0)
     plot.setXRange(0.4, nlags + 0.6, padding=0)
-    return BarSet(bars, band_lines, zero, tuple(marks), np.flatnonzero(np.abs(values) > band) + 1)
+    return BarSet(bars, (items["upper"], items["lower"]), items["zero"], tuple(marks),
+                  np.flatnonzero(np.abs(values) > band) + 1)
 
 
 def restyle_bars(barset: BarSet | None, values: np.ndarray, band: float, data_colour: str) -> None:
@@ -109,8 +135,10 @@ class CorrelationPane(ResidualPane):
         self.correlogram = cg
         season = diagnostics.season
         colour = self.data_colour
-        self._acf = draw_correlation_bars(self.acf_plot, cg.lags, cg.acf, cg.band, season, colour)
-        self._pacf = draw_correlation_bars(self.pacf_plot, cg.lags, cg.pacf, cg.band, season, colour)
+        kept = self.kept_items()
+        self._acf = draw_correlation_bars(self.acf_plot, items_of(kept, "acf"), cg.lags, cg.acf, cg.band, season, colour)
+        self._pacf = draw_correlation_bars(self.pacf_plot, items_of(kept, "pacf"), cg.lags, cg.pacf, cg.band, season,
+                                           colour)
         self.acf_bars, self.pacf_bars = self._acf.bars, self._pacf.bars
         self.acf_band_lines, self.pacf_band_lines = self._acf.band_lines, self._pacf.band_lines
         self.season_marks = self._acf.season_marks + self._pacf.season_marks
@@ -121,6 +149,9 @@ class CorrelationPane(ResidualPane):
         if season >= 2:
             text += f"; dotted: lags {season}, {2 * season}, …"
         self.set_status(text)
+
+    def _make_kept_items(self) -> dict:
+        return kept_correlation_items(self.acf_plot, self.pacf_plot)
 
     def _remove_items(self) -> None:
         super()._remove_items()

@@ -31,7 +31,7 @@ from .base import (
     nearest_point,
     observation_x,
 )
-from .correlation import draw_correlation_bars, restyle_bars
+from .correlation import draw_correlation_bars, items_of, kept_correlation_items, restyle_bars
 
 
 class IdentificationPane(ResidualPane):
@@ -122,8 +122,10 @@ class IdentificationPane(ResidualPane):
         self.trace_plot.enableAutoRange(axis="y")
 
         colour = self.data_colour
-        self._acf = draw_correlation_bars(self.acf_plot, cg.lags, cg.acf, cg.band, season, colour)
-        self._pacf = draw_correlation_bars(self.pacf_plot, cg.lags, cg.pacf, cg.band, season, colour)
+        kept = self.kept_items()
+        self._acf = draw_correlation_bars(self.acf_plot, items_of(kept, "acf"), cg.lags, cg.acf, cg.band, season, colour)
+        self._pacf = draw_correlation_bars(self.pacf_plot, items_of(kept, "pacf"), cg.lags, cg.pacf, cg.band, season,
+                                           colour)
         self.acf_bars, self.pacf_bars = self._acf.bars, self._pacf.bars
         self.acf_band_lines, self.pacf_band_lines = self._acf.band_lines, self._pacf.band_lines
         self.season_marks = self._acf.season_marks + self._pacf.season_marks
@@ -140,6 +142,9 @@ class IdentificationPane(ResidualPane):
         if missing:
             text += f"; {missing} missing"
         self.set_status(text)
+
+    def _make_kept_items(self) -> dict:
+        return kept_correlation_items(self.acf_plot, self.pacf_plot)
 
     def _remove_items(self) -> None:
         super()._remove_items()

@@ -360,7 +360,7 @@ def test_identification_shows_an_input_error_as_a_message(qtbot, series):
     assert pane.is_showing_message
     assert "at least 16 are needed" in pane.message
     assert all(item is None for item in pane.data_items().values())
-    assert all(not plot.items for plot in pane.plots())
+    assert all(not item.isVisible() for plot in pane.plots() for item in plot.items)  # kept items are only hidden
 
 
 # ------------------------------------------------------------------- preview
@@ -516,6 +516,20 @@ def test_clear_shows_a_plain_message(qtbot, series, exact_ev):
     pane.clear("fitting…")
     assert pane.is_showing_message and pane.message_label.text() == "fitting…"
     assert pane.curve is None and not [item for item in pane.plot.items if item.isVisible()]
+
+
+@pytest.mark.parametrize("cls", RESIDUAL_PANES)
+def test_cover_hides_every_drawn_item_until_the_next_draw(qtbot, cls, series, exact_ev, preview_ev):
+    pane = make(qtbot, cls)
+    pane.show_evaluation(exact_ev, series)
+    pane.cover("AR(1): fitting…")
+    assert pane.is_showing_message and pane.message == "AR(1): fitting…"
+    assert pane.status_label.text() == "AR(1): fitting…"
+    assert not [item for plot in pane.plots() for item in plot.items if item.isVisible()]  # nothing stale
+    pane.show_evaluation(preview_ev, series)
+    assert not pane.is_showing_message and pane.message == "" and pane.is_preview
+    assert "fitting" not in pane.status_label.text()
+    assert [item for plot in pane.plots() for item in plot.items if item.isVisible()]
 
 
 # ---------------------------------------------------------- theme and budget
