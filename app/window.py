@@ -591,9 +591,16 @@ class MainWindow(QMainWindow):
         return dialog
 
     def _screen_workers_for(self, workers: int | None):
-        """The screen's worker processes: started at the first screen, kept until the window closes."""
+        """The screen's worker processes: started at the first screen, kept until the window closes.
+
+        Workers that can no longer take work (one died, say for lack of
+        memory) are replaced by new ones.
+        """
         if workers is not None and workers <= 1:
             return None
+        if self._screen_workers is not None and not self._screen_workers.usable():
+            self._screen_workers.shutdown()
+            self._screen_workers = None
         if self._screen_workers is None:
             from lagwright.core.screen import start_workers
 

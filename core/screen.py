@@ -26,6 +26,7 @@ import math
 import multiprocessing
 import os
 from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, replace
 from typing import Callable
 
@@ -163,6 +164,14 @@ class ScreenWorkers:
     def shutdown(self, wait: bool = False) -> None:
         """Stop the workers; fits not yet started are dropped."""
         self.pool.shutdown(wait=wait, cancel_futures=True)
+
+    def usable(self) -> bool:
+        """Whether new work can still be given to the workers (False once one died or after shutdown)."""
+        try:
+            self.pool.submit(_ready)
+        except (BrokenProcessPool, RuntimeError):
+            return False
+        return True
 
 
 def start_workers(workers: int | None = None) -> ScreenWorkers | None:

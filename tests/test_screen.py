@@ -61,6 +61,23 @@ def test_kept_workers_serve_several_screens_and_agree_with_the_sequential_run(se
     assert second.criterion == "bic" and second.rows[0].exact
 
 
+def test_workers_that_died_are_reported_unusable():
+    import os
+    import signal as signals
+    import time
+
+    running = start_workers(2)
+    try:
+        assert running.pool.submit(abs, -2).result(timeout=60) == 2 and running.usable()
+        os.kill(next(iter(running.pool._processes)), signals.SIGKILL)  # a worker dies (say, out of memory)
+        deadline = time.monotonic() + 30
+        while running.usable() and time.monotonic() < deadline:
+            time.sleep(0.05)
+        assert not running.usable()
+    finally:
+        running.shutdown(wait=True)
+
+
 def test_progress_and_cancel(series):
     seen = []
     result = screen(series, ModelSpec(constant="mean"), 1, 1, workers=1, progress=seen.append)

@@ -406,7 +406,11 @@ def test_order_screen_workers_are_started_once_and_stopped_with_the_window(make_
     second = w.open_screen(workers=2)
     assert second.running is first.running  # kept: no second start-up
     second.done(0)
-    pool = first.running.pool
+    first.running.shutdown(wait=True)  # as if the workers had died: the next screen gets new ones
+    third = w.open_screen(workers=2)
+    assert third.running is not first.running and third.running.usable()
+    third.done(0)
+    pool = third.running.pool
     w.close()
     assert w._screen_workers is None
     with pytest.raises(RuntimeError):  # shut down with the window
