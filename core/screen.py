@@ -226,7 +226,7 @@ def screen(
     ----------
     workers : int, optional
         Worker processes for the exact fits (default: the number of cores);
-        1 runs them in this process. Ignored when ``pool`` is given.
+        1 runs them in this process. Ignored when ``running`` is given.
     running : ScreenWorkers, optional
         Workers from :func:`start_workers`, used and left running; without
         them the screen starts its own and shuts them down at the end.
