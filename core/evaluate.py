@@ -16,10 +16,11 @@ included.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from .compare import StepTest, nested_test
 from .diagnostics import Diagnostics, diagnose
+from .distribution import ResidualDistribution, residual_distribution
 from .errors import LagwrightError
 from .fit import DEFAULT_START, fit_exact
 from .preview import fit_preview
@@ -43,6 +44,9 @@ class Evaluation:
     diagnostics_error : str
     hints : tuple of Hint
         Suggested next steps (:mod:`lagwright.core.hints`), when asked for.
+    distribution : ResidualDistribution or None
+        The standardized residuals sorted and binned (for the histogram and
+        the quantile plot), made with the fit; None when the fit failed.
     """
 
     fit: Fit
@@ -50,6 +54,7 @@ class Evaluation:
     step_test: StepTest | None = None
     diagnostics_error: str = ""
     hints: tuple = ()
+    distribution: ResidualDistribution | None = None
 
     @property
     def spec(self) -> ModelSpec:
@@ -107,12 +112,21 @@ def evaluate(
         raise ValueError(f"unknown fit kind {kind!r}")
     diagnostics, error = diagnose_fit(fit)
     step = nested_test(parent, fit) if parent is not None and fit.kind == "exact" else None
-    evaluation = Evaluation(fit=fit, diagnostics=diagnostics, step_test=step, diagnostics_error=error)
+    evaluation = Evaluation(fit=fit, diagnostics=diagnostics, step_test=step, diagnostics_error=error,
+                            distribution=distribution_of(fit))
     if with_hints:
         from .hints import suggest
 
-        evaluation = Evaluation(fit, diagnostics, step, error, suggest(evaluation, series))
+        evaluation = replace(evaluation, hints=suggest(evaluation, series))
     return evaluation
+
+
+def distribution_of(fit: Fit) -> ResidualDistribution | None:
+    """:func:`~lagwright.core.distribution.residual_distribution` of a fit's diagnostic residuals, if any."""
+    if not fit.ok:
+        return None
+    _, z = fit.diagnostic_residuals()
+    return residual_distribution(z) if z.size >= 2 else None
 
 
 def check_step(series: Series, a: Fit, b: Fit) -> tuple[StepTest, Fit | None]:

@@ -1,17 +1,9 @@
 """Histogram of the standardized residuals on a density scale, with the N(0, 1) density.
 
-Bins: the Freedman-Diaconis width :math:`h = 2\\,\\mathrm{IQR}\\,n^{-1/3}`
-gives ``ceil(range / h)`` equal bins over the range of the residuals,
-limited to 10..60 bins (Freedman & Diaconis, 1981; the limits are our
-choice, to keep short series readable and long ones uncluttered). Bar
+Bins: Freedman-Diaconis, 10..60 equal bins over the range of the residuals
+(see :mod:`lagwright.core.distribution`, which bins them with the fit). Bar
 heights are count / (n · width), so the bars have total area 1 and are
 comparable with the normal density curve.
-
-References
-----------
-Freedman, D. & Diaconis, P. (1981). On the histogram as a density
-estimator: L2 theory. *Z. Wahrscheinlichkeitstheorie verw. Gebiete* 57,
-453-476.
 """
 
 from __future__ import annotations
@@ -22,32 +14,10 @@ import numpy as np
 import pyqtgraph as pg
 from scipy import stats
 
+from lagwright.core.distribution import residual_distribution
+
 from .. import theme
 from .base import PaneMessage, ResidualPane, indices_of, make_brush, make_pen, steady_limit
-
-#: Fewest and most bins the rule may give.
-MIN_BINS, MAX_BINS = 10, 60
-
-
-def freedman_diaconis_edges(
-    values: np.ndarray, min_bins: int = MIN_BINS, max_bins: int = MAX_BINS
-) -> np.ndarray:
-    """Equal-width bin edges over the range of ``values`` by the Freedman-Diaconis rule.
-
-    The number of bins is ``ceil((max - min) / h)`` with
-    ``h = 2 · IQR · n^(-1/3)``, limited to ``min_bins..max_bins``
-    (``min_bins`` when the IQR is zero).
-    """
-    values = np.asarray(values, dtype=float)
-    lo, hi = float(values.min()), float(values.max())
-    if hi <= lo:
-        lo, hi = lo - 0.5, hi + 0.5
-    q75, q25 = np.percentile(values, [75.0, 25.0])
-    width = 2.0 * (q75 - q25) * values.size ** (-1.0 / 3.0)
-    k = math.ceil((hi - lo) / width) if width > 0 else min_bins
-    k = int(min(max(k, min_bins), max_bins))
-    return np.linspace(lo, hi, k + 1)
-
 
 class ResidualHistogramPane(ResidualPane):
     """Density histogram of the standardized residuals with the N(0, 1) curve.
@@ -85,13 +55,10 @@ class ResidualHistogramPane(ResidualPane):
             raise PaneMessage("Too few residuals for a histogram.")
         self.z = z
         self.positions = fit.diagnostic_positions().astype(np.int64)
-        edges = freedman_diaconis_edges(z)
+        # Binned with the fit (lagwright.core.distribution); computed here for evaluations made without it.
+        shape = evaluation.distribution if evaluation.distribution is not None else residual_distribution(z)
+        edges, counts, bin_of, density = shape.edges, shape.counts, shape.bin_of, shape.density
         k = edges.size - 1
-        # Bin of each residual, right-open bins with the last one closed (numpy.histogram's rule).
-        bin_of = np.clip(np.searchsorted(edges, z, side="right") - 1, 0, k - 1)
-        counts = np.bincount(bin_of, minlength=k)
-        widths = np.diff(edges)
-        density = counts / (z.size * widths)
         self.edges, self.counts, self.density, self.bin_of = edges, counts, density, bin_of
 
         kept = self.kept_items()

@@ -149,7 +149,9 @@ class NormalQuantilePane(ResidualPane):
         if n < 3:
             raise PaneMessage("Too few residuals for a quantile plot.")
         self.positions = fit.diagnostic_positions().astype(np.int64)
-        order = np.argsort(z, kind="stable")
+        # Sorted with the fit (lagwright.core.distribution); here only for evaluations made without it.
+        order = (evaluation.distribution.order if evaluation.distribution is not None
+                 else np.argsort(z, kind="stable"))
         rank_of = np.empty(n, dtype=np.intp)
         rank_of[order] = np.arange(n)
         theoretical = normal_scores(n)
