@@ -27,6 +27,9 @@ from functools import lru_cache
 
 import numpy as np
 import pyqtgraph as pg
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QPainterPath, QPen
+from PySide6.QtWidgets import QGraphicsPathItem
 from scipy import stats
 
 from .. import theme
@@ -85,6 +88,26 @@ def thin_monotone_curve(x: np.ndarray, y: np.ndarray, steps: int = THIN_STEPS) -
     return keep
 
 
+def band_path(x: np.ndarray, lower: np.ndarray, upper: np.ndarray) -> QPainterPath:
+    """The closed polygon between two curves over the same ``x``: along ``lower``, back along ``upper``.
+
+    Built in one vectorised call; pyqtgraph's FillBetweenItem rebuilt its
+    polygon point by point on each of its two curves' changes (about 8 ms
+    per redraw at 1,200 envelope ranks).
+    """
+    path = pg.arrayToQPath(np.concatenate([x, x[::-1]]), np.concatenate([lower, upper[::-1]]), connect="all")
+    path.closeSubpath()
+    return path
+
+
+def band_item() -> QGraphicsPathItem:
+    """An empty band (see :func:`band_path`) in the BAND colour, without an outline."""
+    item = QGraphicsPathItem()
+    item.setBrush(make_brush(theme.BAND, 0.18))
+    item.setPen(QPen(Qt.PenStyle.NoPen))
+    return item
+
+
 @lru_cache(maxsize=8)
 def normal_scores(n: int) -> np.ndarray:
     """Φ⁻¹ of Blom's positions (read-only; cached, since preview and exact fits share n)."""
@@ -124,7 +147,8 @@ class NormalQuantilePane(ResidualPane):
         y = x.
     envelope_lower, envelope_upper : pyqtgraph.PlotDataItem
         The pointwise 95 % envelope at the ranks of :func:`envelope_ranks`.
-    envelope_fill : pyqtgraph.FillBetweenItem
+    envelope_fill : QGraphicsPathItem
+        The band between the envelope lines, one closed polygon (see :func:`band_path`).
     selected_item : pyqtgraph.ScatterPlotItem
     """
 
@@ -164,6 +188,7 @@ class NormalQuantilePane(ResidualPane):
             ex = theoretical[ranks - 1]
             kept["envelope_lower"].setData(ex, lower)
             kept["envelope_upper"].setData(ex, upper)
+            kept["envelope_fill"].setPath(band_path(ex, lower, upper))
             self._envelope_n = n
         lim = max(float(np.max(np.abs(theoretical))), float(np.max(np.abs(ordered)))) * 1.05
         kept["reference_line"].setData([-lim, lim], [-lim, lim])
@@ -197,7 +222,7 @@ class NormalQuantilePane(ResidualPane):
         upper = pg.PlotDataItem([], [], pen=band_pen, antialias=True, **fixed)
         self._envelope_n = -1
         return {self.plot: {
-            "envelope_fill": pg.FillBetweenItem(lower, upper, brush=make_brush(theme.BAND, 0.18)),
+            "envelope_fill": band_item(),
             "envelope_lower": lower,
             "envelope_upper": upper,
             "reference_line": pg.PlotDataItem([], [], pen=make_pen(theme.REFERENCE, width=1.5), antialias=True,

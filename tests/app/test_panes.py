@@ -182,6 +182,13 @@ def test_quantile_envelope_is_the_beta_order_statistic_band(qtbot, series, exact
     _, upper = pane.envelope_upper.getOriginalDataset()
     np.testing.assert_allclose(lower, stats.norm.ppf(stats.beta.ppf(0.025, ranks, n - ranks + 1)), rtol=1e-10)
     np.testing.assert_allclose(upper, stats.norm.ppf(stats.beta.ppf(0.975, ranks, n - ranks + 1)), rtol=1e-10)
+    # The shaded band is the polygon along the lower line and back along the upper one.
+    path = pane.envelope_fill.path()
+    corners = np.array([(path.elementAt(i).x, path.elementAt(i).y) for i in range(path.elementCount())])
+    x, _ = pane.envelope_lower.getOriginalDataset()
+    np.testing.assert_allclose(corners[:n], np.column_stack([x, lower]), atol=1e-9)
+    np.testing.assert_allclose(corners[n:2 * n], np.column_stack([x[::-1], upper[::-1]]), atol=1e-9)
+    assert pane.envelope_fill.isVisible()
 
 
 def test_quantile_envelope_covers_95_percent_of_simulated_order_statistics():
