@@ -83,7 +83,9 @@ class SectionTable(QTableWidget):
         self.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
         header = self.horizontalHeader()
         header.setHighlightSections(False)
-        header.setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
+        # Columns are sized once per fill (resizeColumnsToContents below); ResizeToContents mode
+        # measured every column again on each setItem of a visible table.
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
         header.setStretchLastSection(False)
         header.setMinimumSectionSize(24)
         header.setDefaultAlignment(Qt.AlignmentFlag.AlignLeft | Qt.AlignmentFlag.AlignVCenter)
@@ -428,7 +430,7 @@ class TestsPanel(QWidget):
         if not fit.ok:
             self.show_failure(label, fit.failure)
             return
-        self._clear(label)
+        self._clear(label, keep_sections=True)
         self._evaluation = evaluation
         if fit.is_preview:
             self.title_label.setText(f"{label}  ({PREVIEW_MARK})")
@@ -445,21 +447,31 @@ class TestsPanel(QWidget):
         if evaluation.diagnostics is not None:
             self._show_checks(evaluation.diagnostics)
             self.checks_section.show()
+        else:
+            self.checks_table.clear_rows()
+            self.checks_section.hide()
         self._show_warnings(evaluation)
-        if not fit.is_preview:
+        if fit.is_preview:  # the step is tested on exact fits only
+            self.step_table.clear_rows()
+            self.step_label.clear()
+            self.step_section.hide()
+        else:
             self._show_step(step_test if step_test is not None else evaluation.step_test)
 
     def is_preview_shown(self) -> bool:
         return self._evaluation is not None and self._evaluation.is_preview
 
     # ------------------------------------------------------------ sections
-    def _clear(self, label: str) -> None:
-        # Hidden sections are refilled far more cheaply than shown ones (their tables size
-        # their columns once, when shown again), so a redraw starts from here too.
+    def _clear(self, label: str, keep_sections: bool = False) -> None:
+        # A new evaluation refills every section in place (``keep_sections``): hiding them and
+        # showing them again cost more than the refill. Anything else (a failure, a pending fit)
+        # hides them.
         self._evaluation = None
         self.title_label.setText(label)
         self.status_label.hide()
         self.status_label.setToolTip("")
+        if keep_sections:
+            return
         self.verdict_label.hide()
         for table in self.tables.values():
             table.clear_rows()

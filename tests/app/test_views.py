@@ -305,6 +305,20 @@ def test_preview_is_marked_and_shows_no_step_test(panel, world):
     assert panel.cell_text("params", panel.row_of("params", "ar.L2"), 1) == four(est.value)
 
 
+def test_refilled_in_place_never_keeps_rows_of_the_previous_candidate(panel, world):
+    # Sections stay on screen from one evaluation to the next; what the new one lacks must go.
+    panel.show_evaluation(world.ev["c3"])
+    assert panel.step_table.rowCount() > 0 and panel.checks_table.rowCount() > 0
+    panel.show_evaluation(world.preview3)  # a preview: no step test
+    assert not panel.step_section.isVisibleTo(panel) and panel.step_table.rowCount() == 0
+    unchecked = Evaluation(fit=world.ev["c2"].fit, diagnostics=None, diagnostics_error="checks failed (test)")
+    panel.show_evaluation(unchecked)
+    assert not panel.checks_section.isVisibleTo(panel) and panel.checks_table.rowCount() == 0
+    assert panel.params_table.keys() == [p.name for p in world.ev["c2"].fit.params]
+    panel.show_evaluation(world.ev["c3"])  # and everything comes back
+    assert panel.checks_section.isVisibleTo(panel) and panel.step_section.isVisibleTo(panel)
+
+
 def test_pending_clears_stale_numbers(panel, world):
     panel.show_evaluation(world.ev["c3"])
     panel.show_pending("ARIMA(3,0,0) + mean")
