@@ -8,8 +8,6 @@ comparable with the normal density curve.
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 import pyqtgraph as pg
 from scipy import stats
