@@ -128,10 +128,11 @@ class ResidualTracePane(ResidualPane):
     def _restyle(self) -> None:
         if getattr(self, "curve", None) is not None:
             self.curve.setPen(make_pen(self.data_colour, width=line_width(self.z.size, 1.3)))
-        for line in (self._kept or {}).get("upper_line"), (self._kept or {}).get("lower_line"):
-            if line is not None:  # the labels' backing follows the theme
-                line.label.fill = make_brush(self.colours.background, 0.85)
-                line.label.update()
+        kept = self._kept or {}
+        for name in ("upper_line", "lower_line"):
+            if name in kept:  # the labels' backing follows the theme
+                kept[name].label.fill = make_brush(self.colours.background, 0.85)
+                kept[name].label.update()
 
     # ------------------------------------------------------------ selection
     def _highlight(self, positions: tuple[int, ...]) -> None:
