@@ -101,7 +101,7 @@ def build_parser() -> argparse.ArgumentParser:
                             ("--max-P", "largest seasonal AR order"), ("--max-Q", "largest seasonal MA order")):
         scr.add_argument(name, type=int, default=0 if name in ("--max-P", "--max-Q") else 3, help=help_text)
     scr.add_argument("--criterion", choices=("aicc", "bic"), default="aicc")
-    scr.add_argument("--workers", type=int, default=None, help="worker processes (default: all cores)")
+    scr.add_argument("--workers", type=int, default=None, help="worker processes (default: all cores for large screens, else this process)")
     scr.add_argument("--json", action="store_true", help="print one JSON object")
     from .memo_cli import add_memo_parser
 

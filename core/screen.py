@@ -2,18 +2,28 @@
 
 Two stages. First every order is fitted by the conditional-sum-of-squares
 preview (milliseconds each) and scored with the criterion computed from the
-exact likelihood at the preview's estimates (one filter pass). Then only the plausible leaders are fitted by
-exact maximum likelihood, in parallel worker processes (one BLAS/OpenMP
-thread each: oversubscription made fits many times slower on 2 cores), with
-an iteration cap so a candidate that cannot converge stops early and says
-so. The ranking is by the exact criterion; orders screened out by the
-preview keep their preview score and are marked as such.
+exact likelihood at the preview's estimates (one filter pass). Then only the
+plausible leaders are fitted by exact maximum likelihood, with an iteration
+cap so a candidate that cannot converge stops early and says so. The ranking
+is by the exact criterion; orders screened out by the preview keep their
+preview score and are marked as such.
 
-Starting the worker processes (a spawn and a statsmodels import each) costs
-about as much as the whole screen of 25 orders at n = 1,000, so a caller
-that screens more than once, or can start early, keeps them:
-:func:`start_workers` (the window starts them when the screen dialog first
-opens, while the user sets the limits).
+The exact fits maximise the exact likelihood in its profile form
+(:mod:`lagwright.core.profile_fit`, with an analytic gradient, from two
+starts), which costs a small fraction of statsmodels' Kalman-filter search;
+each optimum is accepted only when statsmodels' own log-likelihood at the
+same estimates agrees (:data:`CONFIRM_TOLERANCE`), and that value is the one
+reported. Orders the profile route does not cover (gaps in the series,
+skipped lags) or where it does not converge are fitted by statsmodels.
+
+Large screens run the exact fits in parallel worker processes (one
+BLAS/OpenMP thread each: oversubscription made fits many times slower on 2
+cores). Starting them (a spawn and a statsmodels import each) costs about as
+much as a whole screen of 25 orders at n = 10,000 in one process, so a
+screen without running workers starts its own only from
+:data:`WORKERS_FROM`, and a caller that screens more than once, or can start
+early, keeps them: :func:`start_workers` (the window starts them when the
+screen dialog first opens, while the user sets the limits).
 
 Warm starts from neighbouring orders are deliberately not used: measured
 here, they sometimes stopped at worse optima than a cold start.
@@ -35,14 +45,24 @@ from .fit import exact_loglik_at, maximised_loglik
 from .prepare import prepare
 from .result import information_criteria
 from .preview import fit_preview
+from .profile_fit import maximise_profile
 from .series import Series
 from .spec import ModelSpec
 
 CRITERIA = ("aicc", "bic")
 #: Exact fits for at least this many leaders of the preview ranking ...
 MIN_LEADERS = 6
-#: ... and for every order whose preview criterion is within this of the best.
-PREVIEW_MARGIN = 5.0
+#: ... and for every order whose preview criterion is within this of the best (and every order without a
+#: preview score). The preview criterion exceeds the exact one by up to 8.4 units in overparameterised
+#: orders, and an order of the exact top three was up to 10.0 units behind the best preview (24 simulated
+#: series, 25 orders each, n = 1,000 and 10,000; the margin of 5 used before missed one in 9 of them).
+PREVIEW_MARGIN = 12.0
+#: Orders x observations from which a screen without running workers starts its own: starting two
+#: (a spawn and a statsmodels import each) took 1.3-1.6 s here, about what 25 orders at n = 10,000 take
+#: in one process (1.1 s at n = 1,000, 3.1 s at n = 10,000; bench/bench_screen.py, "one process").
+WORKERS_FROM = 250_000
+#: Relative agreement required between the profile likelihood's optimum and statsmodels at the same estimates.
+CONFIRM_TOLERANCE = 1e-9
 _THREAD_VARS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")
 
 
@@ -106,34 +126,42 @@ def orders(base: ModelSpec, max_p: int, max_q: int, max_P: int = 0, max_Q: int =
     return out
 
 
-def _preview_criterion(series: Series, spec: ModelSpec, name: str, n: int) -> float:
+def _preview_criterion(series: Series, spec: ModelSpec, name: str, n: int) -> tuple[float, dict | None]:
     """The criterion from the exact log-likelihood evaluated at the preview's estimates.
 
     One Kalman filter pass per order: a lower bound on the exact optimum that
     is usually within a fraction of a unit of it, so it ranks orders almost as
     the exact fits would. (The preview's own conditional likelihood uses
     fewer observations for larger AR orders and ranks MA orders poorly.)
+    NaN when the preview failed or its estimates are not stationary and
+    invertible: the order then has no score to be screened out by and is
+    fitted exactly. (A score from the preview's own residual variance, used
+    before, ranked such orders first by up to 37 units they did not have.)
+    Returns the score and the preview's estimates (the exact fit's first start).
     """
     fit = fit_preview(series, spec)
     if not fit.ok:
-        return math.inf
+        return math.nan, None
     loglik = exact_loglik_at(series, spec, fit.param_dict)
-    if not math.isfinite(loglik):  # not stationary/invertible: fall back to the preview's variance
-        loglik = -0.5 * n * (math.log(2 * math.pi * fit.sigma2) + 1.0)
+    if not math.isfinite(loglik):
+        return math.nan, fit.param_dict
     k = fit.n_params
     if name == "aicc":
-        return -2 * loglik + 2 * k + (2 * k * (k + 1) / (n - k - 1) if n - k - 1 > 0 else math.inf)
-    return -2 * loglik + k * math.log(n)
+        score = -2 * loglik + 2 * k + (2 * k * (k + 1) / (n - k - 1) if n - k - 1 > 0 else math.inf)
+    else:
+        score = -2 * loglik + k * math.log(n)
+    return score, fit.param_dict
 
 
-def _preview_chunk(series: Series, specs: list[ModelSpec], criterion: str, n: int) -> list[float]:
-    """Preview scores of several orders (one worker job; a job per order cost more in transfers)."""
+def _preview_chunk(series: Series, specs: list[ModelSpec], criterion: str,
+                   n: int) -> list[tuple[float, dict | None]]:
+    """Preview scores and estimates of several orders (one worker job; a job per order cost more in transfers)."""
     out = []
     for spec in specs:
         try:
             out.append(_preview_criterion(series, spec, criterion, n))
         except LagwrightError:
-            out.append(math.inf)
+            out.append((math.nan, None))
     return out
 
 
@@ -193,10 +221,11 @@ def start_workers(workers: int | None = None) -> ScreenWorkers | None:
     return ScreenWorkers(pool, workers)
 
 
-def _exact_job(series: Series, spec: ModelSpec, criterion: str, maxiter: int) -> ScreenRow:
+def _exact_job(series: Series, spec: ModelSpec, criterion: str, maxiter: int, start: dict | None = None) -> ScreenRow:
     try:
-        loglik, converged, message = maximised_loglik(series, spec, maxiter=maxiter)
-        n = prepare(series, spec).n_observed
+        prepared = prepare(series, spec)
+        n = prepared.n_observed
+        loglik, converged, message = _maximised(series, spec, prepared, maxiter, start)
     except LagwrightError as exc:
         return ScreenRow(spec, math.inf, True, False, math.nan, str(exc))
     if not math.isfinite(loglik):
@@ -204,6 +233,25 @@ def _exact_job(series: Series, spec: ModelSpec, criterion: str, maxiter: int) ->
     value = information_criteria(loglik, spec.n_params, n)[criterion]
     note = "" if converged else "did not converge within the iteration cap"
     return ScreenRow(spec, value, True, converged, loglik, note)
+
+
+def _maximised(series: Series, spec: ModelSpec, prepared, maxiter: int,
+               start: dict | None = None) -> tuple[float, bool, str]:
+    """The maximised exact log-likelihood: by the profile likelihood, confirmed by statsmodels' Kalman filter.
+
+    The optimum of :func:`lagwright.core.profile_fit.maximise_profile` is
+    accepted only when statsmodels' log-likelihood at the same estimates
+    agrees to :data:`CONFIRM_TOLERANCE`, and that value is the one reported;
+    otherwise (or when the profile route does not apply or converge) the
+    order is fitted by statsmodels as before.
+    """
+    if spec.n_params < prepared.n_observed - 1:
+        optimum = maximise_profile(spec, prepared, maxiter=maxiter, css_start=start)
+        if optimum is not None and optimum.converged:
+            confirmed = exact_loglik_at(series, spec, optimum.params)
+            if math.isfinite(confirmed) and abs(confirmed - optimum.loglik) <= CONFIRM_TOLERANCE * max(1.0, abs(confirmed)):
+                return confirmed, True, optimum.message
+    return maximised_loglik(series, spec, maxiter=maxiter)
 
 
 def screen(
@@ -225,8 +273,10 @@ def screen(
     Parameters
     ----------
     workers : int, optional
-        Worker processes for the exact fits (default: the number of cores);
-        1 runs them in this process. Ignored when ``running`` is given.
+        Worker processes for the exact fits; 1 runs them in this process.
+        Default: the number of cores when the screen is large enough to
+        repay starting them (:data:`WORKERS_FROM`), else 1. Ignored when
+        ``running`` is given.
     running : ScreenWorkers, optional
         Workers from :func:`start_workers`, used and left running; without
         them the screen starts its own and shuts them down at the end.
@@ -244,6 +294,8 @@ def screen(
     if running is not None:
         return _screen(series, specs, criterion, n_used, total, running.pool, running.count, maxiter, progress,
                        cancelled)
+    if workers is None and len(specs) * n_used < WORKERS_FROM:
+        workers = 1
     own = start_workers(workers)
     try:
         return _screen(series, specs, criterion, n_used, total, own.pool if own else None, own.count if own else 1,
@@ -257,11 +309,12 @@ def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, pro
     from concurrent.futures import as_completed
 
     previews: dict[ModelSpec, float] = {}
+    starts: dict[ModelSpec, dict | None] = {}
     if pool is None:
         for i, spec in enumerate(specs, start=1):
             if cancelled is not None and cancelled():
                 return ScreenResult(criterion, (), 0, cancelled=True)
-            previews.update(zip([spec], _preview_chunk(series, [spec], criterion, n_used)))
+            previews[spec], starts[spec] = _preview_chunk(series, [spec], criterion, n_used)[0]
             if progress is not None:
                 progress(i / total)
     else:  # the previews too are shared out among the workers, a few orders per job
@@ -271,7 +324,8 @@ def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, pro
         done = 0
         for future in as_completed(futures):
             chunk = futures[future]
-            previews.update(zip(chunk, future.result()))
+            for spec, (score, start) in zip(chunk, future.result()):
+                previews[spec], starts[spec] = score, start
             done += len(chunk)
             if progress is not None:
                 progress(done / total)
@@ -279,10 +333,10 @@ def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, pro
                 for other in futures:
                     other.cancel()
                 return ScreenResult(criterion, (), 0, cancelled=True)
-    ranked = sorted(specs, key=lambda s: previews[s])
-    best = previews[ranked[0]]
+    ranked = sorted(specs, key=lambda s: (not math.isfinite(previews[s]), previews[s]))
+    best = min((v for v in previews.values() if math.isfinite(v)), default=math.inf)
     leaders = [s for i, s in enumerate(ranked)
-               if math.isfinite(previews[s]) and (i < MIN_LEADERS or previews[s] <= best + PREVIEW_MARGIN)]
+               if not math.isfinite(previews[s]) or i < MIN_LEADERS or previews[s] <= best + PREVIEW_MARGIN]
     rows: dict[ModelSpec, ScreenRow] = {
         s: ScreenRow(s, previews[s], False, False, math.nan, "screened out by the preview") for s in specs
     }
@@ -292,13 +346,13 @@ def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, pro
             if cancelled is not None and cancelled():
                 was_cancelled = True
                 break
-            rows[spec] = _exact_job(series, spec, criterion, maxiter)
+            rows[spec] = _exact_job(series, spec, criterion, maxiter, starts[spec])
             if progress is not None:
                 progress(0.5 + 0.5 * i / len(leaders))
     else:
         # the costliest orders first, so that no worker is left with a long fit at the end
         leaders = sorted(leaders, key=lambda s: -s.n_arma_coefficients)
-        futures = {pool.submit(_exact_job, series, spec, criterion, maxiter): spec for spec in leaders}
+        futures = {pool.submit(_exact_job, series, spec, criterion, maxiter, starts[spec]): spec for spec in leaders}
         for i, future in enumerate(as_completed(futures), start=1):
             rows[futures[future]] = future.result()
             if progress is not None:

@@ -92,3 +92,59 @@ def test_orders_and_limits():
         orders(ModelSpec(), 1, 1, 1, 0)
     with pytest.raises(InputError):
         screen(Series(np.arange(50.0) % 7), ModelSpec(), 1, 1, criterion="aic")
+
+
+def _reference_llf(y, order, seasonal_order=(0, 0, 0, 0), trend="c"):
+    from statsmodels.tsa.arima.model import ARIMA
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return ARIMA(y, order=order, seasonal_order=seasonal_order, trend=trend).fit().llf
+
+
+def test_every_exact_row_reaches_at_least_statsmodels_optimum(series):
+    # Reference: statsmodels' own fit of each order from its default start (a general-purpose reference
+    # library). The screen's exact rows come from the profile likelihood and carry statsmodels' value at them.
+    result = screen(series, ModelSpec(constant="mean"), 2, 2, workers=1)
+    for row in result.rows:
+        if row.exact:
+            reference = _reference_llf(series.values, (len(row.spec.ar), 0, len(row.spec.ma)))
+            assert row.loglik >= reference - 1e-3 and row.converged
+
+
+def test_seasonal_screen_rows_against_statsmodels():
+    # Invented quarterly-like series with a seasonal AR term; reference: statsmodels per order.
+    e = np.random.default_rng(8).standard_normal(700)
+    y = signal.lfilter([1.0, 0.3], np.convolve([1.0, -0.5], [1.0, 0, 0, 0, -0.5]), e)[200:]
+    result = screen(Series(y), ModelSpec(s=4, constant="mean"), 1, 1, 1, 0, workers=1)
+    best = result.rows[0]
+    assert best.exact and best.spec.sar == (1,)
+    reference = _reference_llf(y, (len(best.spec.ar), 0, len(best.spec.ma)), (1, 0, 0, 4))
+    assert best.loglik >= reference - 1e-3
+
+
+def test_falls_back_to_statsmodels_when_the_kalman_filter_disagrees(series, monkeypatch):
+    # A profile optimum whose value statsmodels does not reproduce must not be reported.
+    import lagwright.core.screen as screen_module
+
+    honest = screen(series, ModelSpec(constant="mean"), 1, 1, workers=1)
+    calls = []
+    original = screen_module.maximised_loglik
+    monkeypatch.setattr(screen_module, "exact_loglik_at", lambda *a, **k: -1e9)
+    monkeypatch.setattr(screen_module, "maximised_loglik", lambda *a, **k: calls.append(a[1]) or original(*a, **k))
+    disagreed = screen(series, ModelSpec(constant="mean"), 1, 1, workers=1)
+    assert len(calls) == disagreed.n_exact == 4
+    for ours, theirs in zip(disagreed.rows, honest.rows):
+        assert ours.spec == theirs.spec and ours.loglik == pytest.approx(theirs.loglik, abs=1e-3)
+
+
+def test_small_screens_run_in_this_process(series, monkeypatch):
+    # Starting worker processes costs more than a small screen: without running workers it stays in-process.
+    import lagwright.core.screen as screen_module
+
+    started = []
+    monkeypatch.setattr(screen_module, "start_workers", lambda workers=None: started.append(workers) or None)
+    screen(series, ModelSpec(constant="mean"), 1, 1)
+    assert started == [1]
+    screen(series, ModelSpec(constant="mean"), 1, 1, workers=2)
+    assert started == [1, 2]
