@@ -9,8 +9,8 @@ a model by three steps with notes, waits for every exact fit, and saves:
 ``main.png`` (the residual panes), ``intervention.png`` (after a pulse at the
 largest residual), ``roots.png`` (periodogram and roots tab),
 ``prepared.png`` (identification tab), ``compare.png`` (the side-by-side
-view of the last step) and ``forecast.png`` (holdout, forecast and rolling
-check).
+view of the last step), ``forecast.png`` (holdout, forecast and rolling
+check) and ``screen.png`` (the order screen, (p, q ≤ 2) × (P, Q ≤ 1)).
 """
 
 from __future__ import annotations
@@ -95,8 +95,22 @@ def main() -> int:
         time.sleep(0.01)
     settle()
     window.grab().save(str(out / "forecast.png"))
+    dialog = window.open_screen()
+    for key, value in (("p", 2), ("q", 2), ("P", 1), ("Q", 1)):
+        dialog.boxes[key].setValue(value)
+    dialog.start()
+    end = time.time() + 180
+    while dialog.result is None and time.time() < end:
+        app.processEvents()
+        time.sleep(0.01)
+    dialog.wait()
+    for _ in range(20):
+        app.processEvents()
+        time.sleep(0.01)
+    dialog.grab().save(str(out / "screen.png"))
+    dialog.done(0)
     window.close()
-    print(f"saved main.png, intervention.png, roots.png, prepared.png, compare.png, forecast.png in {out}")
+    print(f"saved main.png, intervention.png, roots.png, prepared.png, compare.png, forecast.png, screen.png in {out}")
     return 0
 
 
