@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import os
 import sys
 
@@ -198,7 +199,8 @@ def _run_screen(args) -> int:
         sys.stdout.write(f"{'rank':>4}  {'model':<28}{args.criterion.upper():>12}  fit\n")
         for i, row in enumerate(result.rows, 1):
             how = ("exact" if row.converged else "exact, NOT converged") if row.exact else "preview only"
-            sys.stdout.write(f"{i:>4}  {row.spec.label:<28}{row.criterion:>12.3f}  {how}\n")
+            value = f"{row.criterion:>12.3f}" if math.isfinite(row.criterion) else f"{'—':>12}"
+            sys.stdout.write(f"{i:>4}  {row.spec.label:<28}{value}  {how}\n")
     return 0
 
 

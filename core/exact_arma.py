@@ -190,15 +190,6 @@ class ProfileLikelihood:
     gradient_ma: np.ndarray | None = None
 
 
-def _shifted(values: np.ndarray, lag: int, size: int) -> np.ndarray:
-    """``values`` delayed by ``lag`` (zeros in front), cut or padded to ``size``."""
-    out = np.zeros(size)
-    if lag < size:
-        part = values[:size - lag]
-        out[lag:lag + part.size] = part
-    return out
-
-
 def profile_loglik(w: np.ndarray, x: np.ndarray | None, ar: np.ndarray, ma: np.ndarray,
                    gradient: bool = False) -> ProfileLikelihood:
     """The exact log-likelihood of ``w`` under the ARMA(``ar``, ``ma``) errors model; see the module docstring.

@@ -15,6 +15,10 @@ each optimum is accepted only when statsmodels' own log-likelihood at the
 same estimates agrees (:data:`CONFIRM_TOLERANCE`), and that value is the one
 reported. Orders the profile route does not cover (gaps in the series,
 skipped lags) or where it does not converge are fitted by statsmodels.
+Where a profile optimum lies at the unit circle (an over-differenced
+series: the likelihood is flat there and has local optima), statsmodels'
+own search runs too for the rows that could reach the top three, and the
+better optimum is kept (:func:`_boundary_pass`).
 
 Large screens run the exact fits in parallel worker processes (one
 BLAS/OpenMP thread each: oversubscription made fits many times slower on 2
@@ -42,6 +46,7 @@ from typing import Callable
 
 from .errors import InputError, LagwrightError
 from .fit import exact_loglik_at, maximised_loglik
+from .polynomials import roots
 from .prepare import prepare
 from .result import information_criteria
 from .preview import fit_preview
@@ -61,6 +66,13 @@ PREVIEW_MARGIN = 12.0
 #: (a spawn and a statsmodels import each) took 1.3-1.6 s here, about what 25 orders at n = 10,000 take
 #: in one process (1.1 s at n = 1,000, 3.1 s at n = 10,000; bench/bench_screen.py, "one process").
 WORKERS_FROM = 250_000
+#: A profile optimum with a factor root closer to the unit circle than this is also fitted by statsmodels'
+#: search and the better optimum kept: there the likelihood is flat in the search coordinates and has local
+#: optima (an over-differenced series: ARMA(1,2) 0.29 units short of statsmodels' fit). At 1.05 instead,
+#: most overparameterised leaders qualified and the screen was no faster than the plain loop.
+BOUNDARY_MODULUS = 1.005
+#: ... but only the rows within this of the third-best exact criterion (see :func:`_boundary_pass`).
+BOUNDARY_REFIT_MARGIN = 2.0
 #: Relative agreement required between the profile likelihood's optimum and statsmodels at the same estimates.
 CONFIRM_TOLERANCE = 1e-9
 _THREAD_VARS = ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS")
@@ -80,6 +92,10 @@ class ScreenRow:
     converged : bool
     loglik : float
     note : str
+    at_boundary : bool
+        The profile optimum has a factor root within :data:`BOUNDARY_MODULUS`
+        of the unit circle (then statsmodels' own search may be run too; not
+        part of :meth:`to_dict`).
     """
 
     spec: ModelSpec
@@ -88,6 +104,7 @@ class ScreenRow:
     converged: bool
     loglik: float
     note: str = ""
+    at_boundary: bool = False
 
     def to_dict(self) -> dict:
         s = self.spec
@@ -222,36 +239,60 @@ def start_workers(workers: int | None = None) -> ScreenWorkers | None:
 
 
 def _exact_job(series: Series, spec: ModelSpec, criterion: str, maxiter: int, start: dict | None = None) -> ScreenRow:
-    try:
-        prepared = prepare(series, spec)
-        n = prepared.n_observed
-        loglik, converged, message = _maximised(series, spec, prepared, maxiter, start)
-    except LagwrightError as exc:
-        return ScreenRow(spec, math.inf, True, False, math.nan, str(exc))
-    if not math.isfinite(loglik):
-        return ScreenRow(spec, math.inf, True, False, math.nan, message)
-    value = information_criteria(loglik, spec.n_params, n)[criterion]
-    note = "" if converged else "did not converge within the iteration cap"
-    return ScreenRow(spec, value, True, converged, loglik, note)
-
-
-def _maximised(series: Series, spec: ModelSpec, prepared, maxiter: int,
-               start: dict | None = None) -> tuple[float, bool, str]:
-    """The maximised exact log-likelihood: by the profile likelihood, confirmed by statsmodels' Kalman filter.
+    """One leader's exact fit: by the profile likelihood, confirmed by statsmodels' Kalman filter.
 
     The optimum of :func:`lagwright.core.profile_fit.maximise_profile` is
     accepted only when statsmodels' log-likelihood at the same estimates
     agrees to :data:`CONFIRM_TOLERANCE`, and that value is the one reported;
     otherwise (or when the profile route does not apply or converge) the
-    order is fitted by statsmodels as before.
+    order is fitted by statsmodels' own search.
     """
-    if spec.n_params < prepared.n_observed - 1:
-        optimum = maximise_profile(spec, prepared, maxiter=maxiter, css_start=start)
+    try:
+        prepared = prepare(series, spec)
+        n = prepared.n_observed
+        at_boundary = False
+        optimum = None
+        if spec.n_params < n - 1:
+            optimum = maximise_profile(spec, prepared, maxiter=maxiter, css_start=start)
+        confirmed = math.nan
         if optimum is not None and optimum.converged:
             confirmed = exact_loglik_at(series, spec, optimum.params)
-            if math.isfinite(confirmed) and abs(confirmed - optimum.loglik) <= CONFIRM_TOLERANCE * max(1.0, abs(confirmed)):
-                return confirmed, True, optimum.message
-    return maximised_loglik(series, spec, maxiter=maxiter)
+            if abs(confirmed - optimum.loglik) > CONFIRM_TOLERANCE * max(1.0, abs(confirmed)):
+                confirmed = math.nan
+        if math.isfinite(confirmed):
+            loglik, converged, message = confirmed, True, optimum.message
+            at_boundary = any(root.factor_modulus < BOUNDARY_MODULUS for root in roots(spec, optimum.params))
+        else:
+            loglik, converged, message = maximised_loglik(series, spec, maxiter=maxiter)
+    except LagwrightError as exc:
+        return ScreenRow(spec, math.inf, True, False, math.nan, str(exc))
+    return _row(spec, criterion, n, loglik, converged, message, at_boundary)
+
+
+def _row(spec, criterion, n, loglik, converged, message, at_boundary=False) -> ScreenRow:
+    if not math.isfinite(loglik):
+        return ScreenRow(spec, math.inf, True, False, math.nan, message)
+    value = information_criteria(loglik, spec.n_params, n)[criterion]
+    note = "" if converged else "did not converge within the iteration cap"
+    return ScreenRow(spec, value, True, converged, loglik, note, at_boundary)
+
+
+def _boundary_job(series: Series, row: ScreenRow, criterion: str, maxiter: int) -> ScreenRow:
+    """statsmodels' own search for an order whose profile optimum lies at the boundary; the better row wins.
+
+    There the likelihood is flat in the search coordinates and has local
+    optima (an over-differenced series: the profile search stopped 0.29
+    units short of statsmodels' fit of an ARMA(1,2), at another point of
+    the unit-root ridge).
+    """
+    try:
+        loglik, converged, message = maximised_loglik(series, row.spec, maxiter=maxiter)
+        n = prepare(series, row.spec).n_observed
+    except LagwrightError:
+        return row
+    if math.isfinite(loglik) and loglik > row.loglik:
+        return _row(row.spec, criterion, n, loglik, converged, message)
+    return replace(row, at_boundary=False)
 
 
 def screen(
@@ -348,7 +389,7 @@ def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, pro
                 break
             rows[spec] = _exact_job(series, spec, criterion, maxiter, starts[spec])
             if progress is not None:
-                progress(0.5 + 0.5 * i / len(leaders))
+                progress(0.5 + 0.45 * i / len(leaders))
     else:
         # the costliest orders first, so that no worker is left with a long fit at the end
         leaders = sorted(leaders, key=lambda s: -s.n_arma_coefficients)
@@ -356,11 +397,48 @@ def _screen(series, specs, criterion, n_used, total, pool, workers, maxiter, pro
         for i, future in enumerate(as_completed(futures), start=1):
             rows[futures[future]] = future.result()
             if progress is not None:
-                progress(0.5 + 0.5 * i / len(leaders))
+                progress(0.5 + 0.45 * i / len(leaders))
             if cancelled is not None and cancelled():
                 was_cancelled = True
                 for other in futures:
                     other.cancel()
                 break
-    ordered = sorted(rows.values(), key=lambda r: (not r.exact, r.criterion))
+    if not was_cancelled:
+        was_cancelled = _boundary_pass(series, rows, criterion, pool, maxiter, cancelled)
+    if progress is not None and not was_cancelled:
+        progress(1.0)
+    ordered = sorted(rows.values(), key=lambda r: (not r.exact, not math.isfinite(r.criterion),
+                                                   r.criterion if math.isfinite(r.criterion) else 0.0))
     return ScreenResult(criterion, tuple(ordered), sum(r.exact for r in ordered), cancelled=was_cancelled)
+
+
+def _boundary_pass(series, rows: dict, criterion: str, pool, maxiter: int, cancelled) -> bool:
+    """Refit by statsmodels' own search the boundary rows that could reach the top three; True if cancelled.
+
+    Only rows within :data:`BOUNDARY_REFIT_MARGIN` of the third-best exact
+    criterion: the refits are as slow as the plain loop's fits, and a row
+    further down cannot reach the top three unless its optimum were short by
+    more than half that margin in log-likelihood (the shortfalls seen were
+    at most 0.29 units).
+    """
+    values = sorted(r.criterion for r in rows.values() if r.exact and math.isfinite(r.criterion))
+    if not values:
+        return False
+    limit = values[min(2, len(values) - 1)] + BOUNDARY_REFIT_MARGIN
+    chosen = [r for r in rows.values() if r.exact and r.at_boundary and r.criterion <= limit]
+    if pool is None:
+        for row in chosen:
+            if cancelled is not None and cancelled():
+                return True
+            rows[row.spec] = _boundary_job(series, row, criterion, maxiter)
+        return False
+    futures = {pool.submit(_boundary_job, series, row, criterion, maxiter): row.spec for row in chosen}
+    from concurrent.futures import as_completed
+
+    for future in as_completed(futures):
+        rows[futures[future]] = future.result()
+        if cancelled is not None and cancelled():
+            for other in futures:
+                other.cancel()
+            return True
+    return False

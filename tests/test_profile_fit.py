@@ -27,7 +27,7 @@ def _series(n=400, seed=17, seasonal=False):
 
 
 def _statsmodels_fit(series, spec):
-    from lagwright.core.fit import exog_frame, prepared_model
+    from lagwright.core.fit import prepared_model
 
     prepared = prepare(series, spec)
     with warnings.catch_warnings():
