@@ -167,6 +167,47 @@ def png_image(pane, width: int | None = None) -> QImage:
 _NUMBER = re.compile(r"-?\d+(?:\.\d+)?(?:[eE]-?\d+)?")
 
 
+_STYLE_TAG = re.compile(rb"<g\b[^>]*>")
+_STROKE_WIDTH = re.compile(rb'stroke-width="([^"]*)"')
+_DASH_ARRAY = re.compile(rb'stroke-dasharray="([^"]*)"')
+
+
+def scaled_strokes(svg: bytes, factor: float) -> bytes:
+    """Multiply the stroke widths and dash lengths of an exported pane's pens by ``factor``.
+
+    pyqtgraph's pens are cosmetic: the exporter marks their strokes
+    ``vector-effect="non-scaling-stroke"``, so Qt's SVG renderer draws them
+    in device pixels. On the memo's 1200-dpi PDF device a 1.2-pixel band
+    line came out 0.025 mm wide with 0.1 mm dashes (a faint, seemingly solid
+    line). Scaling by the device pixels per SVG unit keeps the weights and
+    dashes the pane has on screen, in proportion to the figure. The pens are
+    the style groups (``<g>`` without an ``id``); the item groups around
+    them (with an ``id``, black, width 1) are left alone: Qt draws the
+    plot frame from one of them, already scaled.
+    """
+    def widths(match):
+        return b'stroke-width="%s"' % _scaled(match.group(1), factor)
+
+    def dashes(match):
+        parts = [_scaled(p.strip(), factor) for p in match.group(1).split(b",")]
+        return b'stroke-dasharray="%s"' % b",".join(parts)
+
+    def style_group(match):
+        tag = match.group(0)
+        if b' id="' in tag:
+            return tag
+        return _DASH_ARRAY.sub(dashes, _STROKE_WIDTH.sub(widths, tag))
+
+    return _STYLE_TAG.sub(style_group, svg)
+
+
+def _scaled(value: bytes, factor: float) -> bytes:
+    try:
+        return b"%.4g" % (float(value) * factor)
+    except ValueError:  # "none" or anything else not a number stays as it is
+        return value
+
+
 def svg_layers(svg: bytes) -> tuple[bytes, list[tuple[tuple[float, float, float, float], bytes]]]:
     """Split an exported pane into what needs no clipping and the plot areas that do.
 

@@ -71,7 +71,7 @@ from lagwright.core.memo_content import (
 )
 
 from . import theme
-from .memo_figures import PaneArt, pane_art, svg_layers
+from .memo_figures import PaneArt, pane_art, scaled_strokes, svg_layers
 
 #: Resolution of the PDF device, dots per inch.
 RES = 1200
@@ -509,11 +509,15 @@ class FigureFlow(Flow):
 
 
 def draw_svg(painter: QPainter, svg: bytes, rect: QRectF) -> None:
-    """Draw an exported pane into ``rect``, clipping each plot area (see :func:`svg_layers`)."""
-    base, parts = svg_layers(svg)
-    renderer = QSvgRenderer(QByteArray(base))
-    view = renderer.viewBoxF()
+    """Draw an exported pane into ``rect``, clipping each plot area (see :func:`svg_layers`).
+
+    Strokes are scaled to the figure first (:func:`scaled_strokes`): the
+    pane's cosmetic pens would otherwise be drawn one device pixel wide.
+    """
+    view = QSvgRenderer(QByteArray(svg)).viewBoxF()
     sx, sy = rect.width() / view.width(), rect.height() / view.height()
+    base, parts = svg_layers(scaled_strokes(svg, min(sx, sy)))
+    renderer = QSvgRenderer(QByteArray(base))
     painter.save()
     painter.setClipRect(rect, Qt.ClipOperation.IntersectClip)
     renderer.render(painter, rect)

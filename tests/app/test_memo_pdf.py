@@ -286,3 +286,47 @@ def test_failed_and_unconverged_candidates_render_as_such(monkeypatch, tmp_path)
     assert "DID NOT CONVERGE" in text
     assert "FIT FAILED" in text and "would leave 10 values" in flat
     assert "The optimiser did not report convergence" in flat
+
+
+def test_scaled_strokes_scale_the_pens_and_leave_the_item_groups():
+    from lagwright.app.memo_figures import scaled_strokes
+
+    svg = (b'<svg><g stroke="black" stroke-width="1" id="InfiniteLine_2">'
+           b'<g stroke="#e0a526" stroke-dasharray="4.8,2.4" stroke-width="1.2">'
+           b'<polyline vector-effect="non-scaling-stroke" points="0,1 5,1"/></g>'
+           b'<g stroke="none" stroke-dasharray="none"></g></g></svg>')
+    out = scaled_strokes(svg, 10.0)
+    assert b'stroke-width="1" id="InfiniteLine_2"' in out  # the item group as it was
+    assert b'stroke-dasharray="48,24" stroke-width="12"' in out
+    assert b'stroke-dasharray="none"' in out
+
+
+def test_memo_figures_keep_the_panes_line_weights_and_dashes(qapp, water_fit):
+    # At the PDF's device scale (here 5 device pixels per SVG unit) the ±2σ band line must be drawn as wide
+    # as the pane's 1.2-unit pen scaled (about 6 pixels), and dashed; before, cosmetic pens came out one
+    # device pixel wide and the dashes too fine to see.
+    from PySide6.QtCore import QRectF
+    from PySide6.QtGui import QColor, QImage, QPainter
+
+    from lagwright.app import memo_figures
+    from lagwright.app.memo_pdf import draw_svg
+
+    pane = memo_figures.make_pane("trace", water_fit, samples.load_sample("water_demand"), 800, 400)
+    try:
+        memo_figures.settle(pane)
+        svg = memo_figures.svg_bytes(pane)
+    finally:
+        memo_figures.dispose(pane)
+    image = QImage(4000, 2000, QImage.Format.Format_RGB32)
+    image.fill(QColor("white"))
+    painter = QPainter(image)
+    draw_svg(painter, svg, QRectF(0, 0, 4000, 2000))
+    painter.end()
+    pixels = np.frombuffer(image.constBits(), dtype=np.uint8).reshape(2000, 4000, 4)[:, :, :3].astype(int)
+    band = (np.abs(pixels[:, :, 2] - 0xE0) < 40) & (np.abs(pixels[:, :, 1] - 0xA5) < 40) & (pixels[:, :, 0] < 0x70)
+    rows = np.flatnonzero(band[:, 1500:3500].sum(axis=1) > 300)  # rows crossed by a band line
+    assert rows.size, "no band line found"
+    thickest = max(len(run) for run in np.split(rows, np.flatnonzero(np.diff(rows) > 1) + 1))
+    assert thickest >= 4
+    line = band[rows[len(rows) // 2], 1500:3500]
+    assert np.count_nonzero(np.diff(line.astype(int))) >= 40  # on and off along the line: dashed
