@@ -13,7 +13,7 @@ the same run, best of ``--repeat``:
 * exact+diag: lagwright evaluate(kind="exact"): exact fit, all residual checks;
 * preview+diag: lagwright evaluate(kind="preview");
 * diag alone: lagwright diagnose() on the exact fit's residuals;
-* starts:     fit_exact with each start strategy (css, default, parent =
+* starts:     fit_exact with each start strategy (profile, css, default, parent =
               the ARMA(2,1) parent's estimates with zero for the new term),
               time and log-likelihood reached.
 
@@ -96,7 +96,7 @@ def main() -> None:
         t, _ = best_of(repeat, lambda: diagnose(std, std, n_arma=4))
         rows.append(("diagnostics alone", t, float("nan")))
         parent = fit_exact(series, parent_spec)
-        for start in ("css", "default", "parent"):
+        for start in ("profile", "css", "default", "parent"):
             t, f = best_of(repeat, lambda: fit_exact(series, spec, start=start, parent=parent))
             rows.append((f"start={start}" + ("" if f.convergence.start == start else f"→{f.convergence.start}"), t, f.loglik))
         for name, seconds, loglik in rows:

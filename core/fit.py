@@ -51,10 +51,10 @@ from .series import Series
 from .spec import ModelSpec
 
 #: Start-value strategies, in the order tried after the first choice fails.
-START_STRATEGIES = ("css", "default", "parent")
+START_STRATEGIES = ("profile", "css", "default", "parent")
 #: The strategy used first unless the caller asks otherwise (chosen from the
 #: measurements of ``bench/bench_core.py``; see DEVELOPERS.md).
-DEFAULT_START = "css"
+DEFAULT_START = "profile"
 #: Log-likelihood slack when checking that a nesting child is no worse than its parent.
 NESTING_TOLERANCE = 1e-6
 
@@ -193,11 +193,19 @@ def _valid_start(model, params: np.ndarray) -> bool:
     return bool(np.all(np.isfinite(unconstrained)) and np.allclose(back, params, rtol=1e-6, atol=1e-8))
 
 
-def _start_values(strategy: str, model, spec: ModelSpec, prepared: PreparedSeries, parent: Fit | None):
+def _start_values(strategy: str, model, spec: ModelSpec, prepared: PreparedSeries, parent: Fit | None,
+                  maxiter: int = 500):
     names = list(model.param_names)
     if strategy == "default":
         return None
-    if strategy == "css":
+    if strategy == "profile":  # the optimum of the profile likelihood (lagwright.core.profile_fit)
+        from .profile_fit import maximise_profile
+
+        optimum = maximise_profile(spec, prepared, maxiter=maxiter)  # the same iteration cap as the fit's
+        if optimum is None or not optimum.converged:
+            return "skip"
+        start = np.array([optimum.params.get(n, 0.0) for n in names])
+    elif strategy == "css":
         est, _, _ = css_estimate(spec, prepared)
         start = np.array([est.get(n, 0.0) for n in names])
     elif strategy == "parent":
@@ -247,8 +255,10 @@ def fit_exact(
     ----------
     series : Series
     spec : ModelSpec
-    start : {"css", "default", "parent"}
-        Start values tried first: the conditional-sum-of-squares estimate,
+    start : {"profile", "css", "default", "parent"}
+        Start values tried first: the optimum of the profile likelihood
+        (:mod:`lagwright.core.profile_fit`; series without gaps, every lag up
+        to each order), the conditional-sum-of-squares estimate,
         statsmodels' own start, or the parent's estimates (zero for a new
         term). If it fails to converge, the others are tried.
     parent : Fit, optional
@@ -286,7 +296,7 @@ def fit_exact(
     log: list[str] = []
     for strategy, optimizer in plan:
         try:
-            start_params = _start_values(strategy, model, spec, prepared, parent)
+            start_params = _start_values(strategy, model, spec, prepared, parent, maxiter)
         except LagwrightError as exc:
             log.append(f"start={strategy}: no start values ({exc})")
             continue
