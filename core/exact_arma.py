@@ -57,6 +57,43 @@ _HEAD_ROWS = 256
 _NEGLIGIBLE = 1e-15
 
 
+@dataclass(frozen=True)
+class _Moments:
+    """The autocovariance equations of an ARMA process with unit innovation variance.
+
+    ``amat @ gamma[:p + 1]`` equals the right-hand sides of the first
+    :math:`p + 1` equations of Brockwell & Davis (1991, eq. 3.3.8) (None for
+    p = 0); ``psi`` holds :math:`\\psi_0..\\psi_q`.
+    """
+
+    psi: np.ndarray
+    amat: np.ndarray | None
+    gamma: np.ndarray  # gamma_0..gamma_max(p, q)
+
+
+def _moments(ar: np.ndarray, ma: np.ndarray) -> _Moments:
+    p, q = ar.size - 1, ma.size - 1
+    impulse = np.zeros(q + 1)
+    impulse[0] = 1.0
+    psi = signal.lfilter(ma, ar, impulse)
+    size = max(p, q) + 1
+    rhs = np.zeros(size)
+    rhs[:q + 1] = np.convolve(ma, psi[::-1])[q:]  # sum_{j=k}^{q} theta_j psi_{j-k}, k = 0..q
+    gamma = np.zeros(size)
+    amat = None
+    if p:
+        k = np.arange(p + 1)[:, None]
+        lag = np.arange(1, p + 1)[None, :]
+        amat = np.eye(p + 1)
+        np.add.at(amat, (np.broadcast_to(k, (p + 1, p)), np.abs(k - lag)), np.broadcast_to(ar[1:], (p + 1, p)))
+        gamma[:p + 1] = np.linalg.solve(amat, rhs[:p + 1])
+    else:
+        gamma[:q + 1] = rhs[:q + 1]
+    for k in range(p + 1, size):
+        gamma[k] = rhs[k] - ar[1:] @ gamma[k - p:k][::-1]
+    return _Moments(psi, amat, gamma)
+
+
 def arma_autocovariances(ar: np.ndarray, ma: np.ndarray, count: int) -> np.ndarray:
     """Autocovariances :math:`\\gamma_0..\\gamma_{count-1}` of an ARMA process with unit innovation variance.
 
@@ -67,26 +104,14 @@ def arma_autocovariances(ar: np.ndarray, ma: np.ndarray, count: int) -> np.ndarr
     """
     ar = np.asarray(ar, dtype=float)
     ma = np.asarray(ma, dtype=float)
-    p, q = ar.size - 1, ma.size - 1
-    phi = -ar[1:]
-    impulse = np.zeros(q + 1)
-    impulse[0] = 1.0
-    psi = signal.lfilter(ma, ar, impulse)
-    size = max(count, p + 1, q + 1)
-    rhs = np.zeros(size)
-    rhs[:q + 1] = np.convolve(ma, psi[::-1])[q:]  # sum_{j=k}^{q} theta_j psi_{j-k}, k = 0..q
-    gamma = np.zeros(size)
-    if p:
-        k = np.arange(p + 1)[:, None]
-        lag = np.arange(1, p + 1)[None, :]
-        a = np.eye(p + 1)
-        np.add.at(a, (np.broadcast_to(k, (p + 1, p)), np.abs(k - lag)), -np.broadcast_to(phi, (p + 1, p)))
-        gamma[:p + 1] = np.linalg.solve(a, rhs[:p + 1])
-    else:
-        gamma[:q + 1] = rhs[:q + 1]
-    for k in range(p + 1, size):
-        gamma[k] = rhs[k] + (phi @ gamma[k - p:k][::-1] if p else 0.0)
-    return gamma[:count]
+    known = _moments(ar, ma).gamma
+    if known.size >= count:
+        return known[:count]
+    p = ar.size - 1
+    gamma = np.concatenate([known, np.zeros(count - known.size)])
+    for k in range(known.size, count):  # beyond max(p, q) the equations are homogeneous
+        gamma[k] = -ar[1:] @ gamma[k - p:k][::-1] if p else 0.0
+    return gamma
 
 
 def presample_covariance(ar: np.ndarray, ma: np.ndarray) -> np.ndarray:
@@ -97,20 +122,22 @@ def presample_covariance(ar: np.ndarray, ma: np.ndarray) -> np.ndarray:
     :math:`\\mathrm{Cov}(u_{-i}, \\varepsilon_{-j}) = \\psi_{j-i}` for
     :math:`j \\ge i` (zero otherwise), all over :math:`\\sigma^2`.
     """
-    p, q = len(ar) - 1, len(ma) - 1
+    ar = np.asarray(ar, dtype=float)
+    ma = np.asarray(ma, dtype=float)
+    return _covariance(ar, ma, _moments(ar, ma))
+
+
+def _covariance(ar: np.ndarray, ma: np.ndarray, moments: _Moments) -> np.ndarray:
+    p, q = ar.size - 1, ma.size - 1
     v = np.zeros((p + q, p + q))
     if p:
-        gamma = arma_autocovariances(ar, ma, p)
         index = np.arange(p)
-        v[:p, :p] = gamma[np.abs(index[:, None] - index[None, :])]
+        v[:p, :p] = moments.gamma[np.abs(index[:, None] - index[None, :])]
     if q:
         v[p:, p:] = np.eye(q)
     if p and q:
-        impulse = np.zeros(q)
-        impulse[0] = 1.0
-        psi = signal.lfilter(ma, ar, impulse)
         i, j = np.meshgrid(np.arange(p), np.arange(q), indexing="ij")
-        cross = np.where(j >= i, psi[np.clip(j - i, 0, q - 1)], 0.0)
+        cross = np.where(j >= i, moments.psi[np.clip(j - i, 0, q - 1)], 0.0)
         v[:p, p:] = cross
         v[p:, :p] = cross.T
     return v
@@ -220,7 +247,8 @@ def profile_loglik(w: np.ndarray, x: np.ndarray | None, ar: np.ndarray, ma: np.n
     filtered = signal.lfilter(ar, ma, data, axis=-1)  # row 0: e0 of w; rows 1..k: of the regressors
     p, q = len(ar) - 1, len(ma) - 1
     if p + q:
-        v = presample_covariance(ar, ma)
+        moments = _moments(ar, ma)
+        v = _covariance(ar, ma, moments)
         g = presample_response(ar, ma, n)  # rows beyond its length are zero
         gg = g.T @ g
         nmat = np.eye(p + q) + gg @ v
@@ -251,7 +279,7 @@ def profile_loglik(w: np.ndarray, x: np.ndarray | None, ar: np.ndarray, ma: np.n
     u = w - (np.asarray(x, dtype=float) @ beta if k else 0.0)
     r = weights @ filtered
     if p + q:
-        parts = _Presample(v, g, gg, nmat, omega, projected @ weights)
+        parts = _Presample(v, g, gg, nmat, omega, projected @ weights, moments)
     else:
         parts = None
     grad_ar, grad_ma = _gradient(ar, ma, u, r, ssr, parts)
@@ -266,6 +294,7 @@ class _Presample:
     nmat: np.ndarray   # N = I + G'G V
     omega: np.ndarray  # V N^-1
     gr: np.ndarray     # G' r
+    moments: _Moments  # the autocovariance equations V was built from
 
 
 def _gradient(ar, ma, u, r, ssr, parts: _Presample | None) -> tuple[np.ndarray, np.ndarray]:
@@ -322,18 +351,19 @@ def _gradient(ar, ma, u, r, ssr, parts: _Presample | None) -> tuple[np.ndarray, 
     h = np.linalg.solve(nmat, parts.gr)
     a_v = 0.5 * scale * np.outer(h, h) - 0.5 * np.linalg.solve(nmat, parts.gg).T
     a_v = 0.5 * (a_v + a_v.T)
-    d_ar, d_ma = _covariance_gradient(ar, ma, a_v)
+    d_ar, d_ma = _covariance_gradient(ar, ma, a_v, parts.moments)
     return grad_ar + d_ar, grad_ma + d_ma
 
 
-def _covariance_gradient(ar: np.ndarray, ma: np.ndarray, a_v: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _covariance_gradient(ar: np.ndarray, ma: np.ndarray, a_v: np.ndarray,
+                         moments: _Moments) -> tuple[np.ndarray, np.ndarray]:
     """:math:`\\langle A_V, \\partial V/\\partial a_j\\rangle` and :math:`\\langle A_V, \\partial V/\\partial m_j\\rangle`."""
     p, q = ar.size - 1, ma.size - 1
     grad = np.zeros(p + q)  # a_1..a_p, then m_1..m_q
     # psi weights 0..q and their derivatives: d psi / d m_j = B^j (1/phi); d psi / d a_j = -B^j (psi/phi)
+    psi = moments.psi
     impulse = np.zeros(q + 1)
     impulse[0] = 1.0
-    psi = signal.lfilter(ma, ar, impulse)
     pi = signal.lfilter([1.0], ar, impulse)
     psi_ar = signal.lfilter([1.0], ar, psi)
     lag = np.arange(q + 1)[None, :] - np.arange(1, max(p, q) + 1)[:, None]  # l - j
@@ -350,17 +380,13 @@ def _covariance_gradient(ar: np.ndarray, ma: np.ndarray, a_v: np.ndarray) -> tup
         w_gamma = np.zeros(p + 1)
         w_gamma[:p] = np.bincount(np.abs(index[:, None] - index[None, :]).ravel(), weights=a_v[:p, :p].ravel(),
                                   minlength=p)
-        k = np.arange(p + 1)[:, None]
-        lags = np.arange(1, p + 1)[None, :]
-        amat = np.eye(p + 1)
-        np.add.at(amat, (np.broadcast_to(k, (p + 1, p)), np.abs(k - lags)), np.broadcast_to(ar[1:], (p + 1, p)))
+        amat, gamma = moments.amat, moments.gamma[:p + 1]
+        lam = np.linalg.solve(amat.T, w_gamma)
         # rhs_k = sum_{i>=k} m_i psi_{i-k} = (psi @ hankel(m))_k, for k = 0..p
         hank = np.zeros((q + 1, p + 1))
         rows, cols = np.meshgrid(np.arange(q + 1), np.arange(p + 1), indexing="ij")
         inside = rows + cols <= q
         hank[inside] = ma[(rows + cols)[inside]]
-        gamma = np.linalg.solve(amat, psi @ hank)
-        lam = np.linalg.solve(amat.T, w_gamma)
         d_rhs = d_psi @ hank  # through psi, every parameter
         # through m_j itself: d rhs_k / d m_j = psi_{j-k} for k <= j
         jk = np.arange(1, q + 1)[:, None] - np.arange(p + 1)[None, :]

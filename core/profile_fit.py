@@ -41,7 +41,7 @@ from scipy import optimize
 
 from .errors import LagwrightError
 from .exact_arma import profile_loglik
-from .polynomials import _spread, expanded_polynomials, factors
+from .polynomials import _spread, factors, param_names
 from .prepare import PreparedSeries
 from .preview import css_estimate
 from .spec import ModelSpec
@@ -86,18 +86,18 @@ class ProfileOptimum:
 
 def applicable(spec: ModelSpec, prepared: PreparedSeries) -> bool:
     """Whether :func:`maximise_profile` can fit ``spec``: no missing values, every lag up to each order."""
-    contiguous = all(tuple(lags) == tuple(range(1, len(lags) + 1)) for lags in (spec.ar, spec.ma, spec.sar, spec.sma))
-    return contiguous and not np.isnan(np.asarray(prepared.values)).any()
+    return spec.has_contiguous_lags and not np.isnan(np.asarray(prepared.values)).any()
 
 
 def _names(spec: ModelSpec) -> dict[str, list[str]]:
-    s = spec.s
-    return {
-        "ar": [f"ar.L{lag}" for lag in spec.ar],
-        "ma": [f"ma.L{lag}" for lag in spec.ma],
-        "sar": [f"ar.S.L{lag * s}" for lag in spec.sar],
-        "sma": [f"ma.S.L{lag * s}" for lag in spec.sma],
-    }
+    """The ARMA coefficients' statsmodels names, by factor (from :func:`lagwright.core.polynomials.param_names`)."""
+    names = list(param_names(spec))
+    start = int(spec.has_constant) + len(spec.interventions)
+    out = {}
+    for kind, lags in (("ar", spec.ar), ("ma", spec.ma), ("sar", spec.sar), ("sma", spec.sma)):
+        out[kind] = names[start:start + len(lags)]
+        start += len(lags)
+    return out
 
 
 class _Problem:
@@ -156,8 +156,14 @@ class _Problem:
             parts.append(u)
         return np.concatenate(parts) if parts else np.zeros(0)
 
+    def _polynomials(self, coefficients: dict[str, float]):
+        """The factor polynomials, the seasonal ones spread to powers of B, and the full AR and MA polynomials."""
+        f = factors(self.spec, coefficients)
+        spread = {"ar": _spread(f["sar"], self.spec.s), "ma": _spread(f["sma"], self.spec.s)}
+        return f, spread, np.convolve(f["ar"], spread["ar"]), np.convolve(f["ma"], spread["ma"])
+
     def evaluate(self, x: np.ndarray):
-        ar, ma = expanded_polynomials(self.spec, self.coefficients(x))
+        _, _, ar, ma = self._polynomials(self.coefficients(x))
         return profile_loglik(self.w, self.x, ar, ma)
 
     def objective(self, x: np.ndarray) -> float:
@@ -170,14 +176,11 @@ class _Problem:
 
     def objective_and_gradient(self, x: np.ndarray) -> tuple[float, np.ndarray]:
         """:meth:`objective` and its analytic gradient (chain rule through the factors and the constraint map)."""
-        coefficients = self.coefficients(x)
-        f = factors(self.spec, coefficients)
+        f, spread, ar, ma = self._polynomials(self.coefficients(x))
         s = self.spec.s
-        spread = {"ar": _spread(f["sar"], s), "ma": _spread(f["sma"], s)}
         with np.errstate(all="ignore"):
             try:
-                result = profile_loglik(self.w, self.x, np.convolve(f["ar"], spread["ar"]),
-                                        np.convolve(f["ma"], spread["ma"]), gradient=True)
+                result = profile_loglik(self.w, self.x, ar, ma, gradient=True)
             except (np.linalg.LinAlgError, ValueError):
                 return _HUGE, np.zeros(x.size)
         if not math.isfinite(result.loglik) or not np.all(np.isfinite(result.gradient_ar)) \

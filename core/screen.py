@@ -162,12 +162,7 @@ def _preview_criterion(series: Series, spec: ModelSpec, name: str, n: int) -> tu
     loglik = exact_loglik_at(series, spec, fit.param_dict)
     if not math.isfinite(loglik):
         return math.nan, fit.param_dict
-    k = fit.n_params
-    if name == "aicc":
-        score = -2 * loglik + 2 * k + (2 * k * (k + 1) / (n - k - 1) if n - k - 1 > 0 else math.inf)
-    else:
-        score = -2 * loglik + k * math.log(n)
-    return score, fit.param_dict
+    return information_criteria(loglik, fit.n_params, n)[name], fit.param_dict
 
 
 def _preview_chunk(series: Series, specs: list[ModelSpec], criterion: str,

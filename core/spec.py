@@ -284,13 +284,17 @@ class ModelSpec:
         constant_ok = other.constant == "none" or other.constant == self.constant
         return contained and constant_ok
 
+    @property
+    def has_contiguous_lags(self) -> bool:
+        """Whether every lag up to each order is present (no subset lags)."""
+        return all(self.lags(k) == tuple(range(1, len(self.lags(k)) + 1)) for k in TERM_KINDS)
+
     # ------------------------------------------------------------------ labels
     @property
     def label(self) -> str:
         """Textbook label: ``ARIMA(p,d,q)×(P,D,Q)_s``, or ``AR{1,12} MA{1}`` for subset lags."""
-        contiguous = all(self.lags(k) == tuple(range(1, len(self.lags(k)) + 1)) for k in TERM_KINDS)
         seasonal = bool(self.sar or self.sma or self.D)
-        if contiguous:
+        if self.has_contiguous_lags:
             text = f"ARIMA({len(self.ar)},{self.d},{len(self.ma)})"
             if seasonal:
                 text += f"×({len(self.sar)},{self.D},{len(self.sma)})_{self.s}"
